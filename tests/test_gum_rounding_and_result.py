@@ -1,0 +1,127 @@
+"""Rounding of results (JCGM 100:2008, 7.2.6) and the result statement."""
+
+import math
+
+import pytest
+
+from viscometry.gum import Budget, InputQuantity, round_result
+
+
+@pytest.mark.parametrize(
+    ("value", "U", "rounding", "expected"),
+    [
+        # JCGM 100:2008, 7.2.6: U to at most two significant digits, value to the same place
+        (50.000838, 0.0000926, "nearest", ("50.000838", "0.000093")),
+        (41.27449, 0.1512, "nearest", ("41.27", "0.15")),
+        (1234.5678, 23.4, "nearest", ("1235", "23")),
+        (98765.0, 1234.0, "nearest", ("98800", "1200")),
+        (10.0, 0.0996, "nearest", ("10.00", "0.10")),
+        # EA-4/02 M:2022, 5.4: round up when ordinary rounding lowers U by more than 5 %
+        (41.27449, 0.1049, "ea-4/02", ("41.27", "0.10")),  # 0.10 is 4.7 % lower: kept
+        (41.27449, 0.01149, "ea-4/02", ("41.274", "0.011")),  # 0.011 is 4.3 % lower: kept
+        (41.27449, 0.1151, "up", ("41.27", "0.12")),
+    ],
+)
+def test_round_result(value, U, rounding, expected):
+    r = round_result(value, U, rounding=rounding)
+    assert (r.value, r.uncertainty) == expected
+
+
+def test_ea402_rounds_up_beyond_five_percent():
+    # EA-4/02 M:2022, 5.4 (from memory): with one digit, 0.0106 -> 0.01 would lose 5.7 %,
+    # so U is rounded up to 0.02; 0.0104 -> 0.01 loses 3.8 % and stands
+    assert round_result(1.0, 0.0106, digits=1, rounding="ea-4/02").uncertainty == "0.02"
+    assert round_result(1.0, 0.0104, digits=1, rounding="ea-4/02").uncertainty == "0.01"
+
+
+def test_statement_and_relative_uncertainty():
+    qs = [
+        InputQuantity.normal("a", 41.2, 0.05, "mm^2/s"),
+        InputQuantity.normal("b", 0.07449, 0.05, "mm^2/s"),
+    ]
+    r = Budget.from_formula("nu", "a + b", qs, "mm^2/s", coverage_factor=2.0).evaluate()
+    # U = 2 * sqrt(2) * 0.05 = 0.1414 -> 0.14; value to two decimals (JCGM 100:2008, 7.2.6)
+    assert r.statement() == "nu = (41.27 ± 0.14) mm²/s, k = 2.00, p ≈ 95.45 % (relative U = 0.34 %)"
+    assert r.relative_expanded_uncertainty == pytest.approx(2 * math.sqrt(0.005) / 41.27449)
+
+
+def test_zero_estimate_gives_undefined_relative_quantities():
+    qs = [InputQuantity.normal("a", 1.0, 0.1), InputQuantity.normal("b", 1.0, 0.1)]
+    r = Budget.from_formula("d", "a - b", qs).evaluate()
+    assert r.value == 0.0
+    assert math.isnan(r.relative_expanded_uncertainty)
+    assert all(math.isnan(c.relative_sensitivity) for c in r.contributions)
+    assert any("estimate is zero" in w for w in r.warnings)
+
+
+def test_result_is_immutable_and_what_if_is_new():
+    qs = [InputQuantity.normal("a", 1.0, 0.1), InputQuantity.normal("b", 2.0, 0.2)]
+    b = Budget.from_formula("y", "a * b", qs)
+    r = b.evaluate()
+    with pytest.raises(AttributeError):
+        r.value = 3.0  # type: ignore[misc]
+    b2 = b.with_uncertainty("a", 0.01)
+    assert b.input("a").standard_uncertainty == 0.1
+    assert b2.evaluate().standard_uncertainty < r.standard_uncertainty
+
+
+def test_to_ufloat_and_table():
+    qs = [InputQuantity.normal("a", 1.0, 0.1, "m"), InputQuantity.normal("b", 2.0, 0.2, "s")]
+    r = Budget.from_formula("v", "a / b", qs, "m/s").evaluate()
+    u = r.to_ufloat()
+    assert u.nominal_value == pytest.approx(0.5)
+    assert u.std_dev == pytest.approx(r.standard_uncertainty)
+    table = r.table()
+    assert list(table["quantity"]) == ["a", "b"]
+    assert set(table.columns) >= {
+        "quantity",
+        "estimate",
+        "unit",
+        "standard uncertainty",
+        "distribution",
+        "type",
+        "dof",
+        "sensitivity",
+        "sensitivity unit",
+        "contribution",
+        "variance share",
+    }
+    assert "<table>" in r._repr_html_()
+
+
+def test_sweep_equals_point_evaluations():
+    qs = [InputQuantity.normal("C", 0.1, 1e-4, "mm^2/s^2"), InputQuantity.from_readings("t", [400.0, 400.2, 399.9], "s"),
+          InputQuantity.rectangular("E", 150.0, 20.0, "mm^2*s")]  # fmt: skip
+    b = Budget.from_formula("nu", "C * t - E / t**2", qs, "mm^2/s")
+    ts = [250.0, 400.0, 900.0]
+    sw = b.sweep("t", ts)
+    for i, t in enumerate(ts):
+        q = qs[1]
+        from dataclasses import replace
+
+        r = b.with_input(replace(q, value=t, readings=None)).evaluate()
+        assert sw["value"][i] == pytest.approx(r.value, rel=1e-12)
+        assert sw["standard_uncertainty"][i] == pytest.approx(r.standard_uncertainty, rel=1e-12)
+        assert sw["expanded_uncertainty"][i] == pytest.approx(r.expanded_uncertainty, rel=1e-12)
+
+
+def test_units_checked_and_converted():
+    from viscometry.errors import UnitError
+
+    qs = [InputQuantity.normal("a", 1.0, 0.1, "mm"), InputQuantity.normal("b", 2.0, 0.2, "s")]
+    with pytest.raises(UnitError, match="do not match the measurand unit 'Pa'"):
+        Budget.from_formula("v", "a / b", qs, "Pa")
+    with pytest.raises(UnitError, match="dimensionally inconsistent"):
+        Budget.from_formula("v", "a + b", qs, "m")
+    with pytest.raises(UnitError, match="unknown unit 'furlongs_per_blorp'"):
+        Budget.from_formula("v", "a / b", qs, "furlongs_per_blorp")
+    r = Budget.from_formula("v", "a / b", qs, "m/s").evaluate()
+    assert r.value == pytest.approx(0.0005)
+
+
+def test_celsius_offset_and_difference():
+    # common practice: a temperature in degC is an offset value, its uncertainty a difference
+    qs = [InputQuantity.normal("T", 20.0, 0.01, "degC")]
+    r = Budget.from_formula("Tk", "T", qs, "K").evaluate()
+    assert r.value == pytest.approx(293.15)
+    assert r.standard_uncertainty == pytest.approx(0.01)

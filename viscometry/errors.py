@@ -1,0 +1,61 @@
+"""The package's error hierarchy and domain warnings.
+
+Every error raised on bad input derives from :class:`ViscometryError` and also from the
+matching builtin (``ValueError``, ``TypeError``), so callers can catch either. Messages name
+the offending field and its value.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "ViscometryError",
+    "InputError",
+    "FormulaError",
+    "UnitError",
+    "CorrelationError",
+    "BudgetFileError",
+    "ModelError",
+    "ViscometryWarning",
+    "ValidityWarning",
+    "CorrelationWarning",
+]
+
+
+class ViscometryError(Exception):
+    """Base class of every error this package raises on purpose."""
+
+
+class InputError(ViscometryError, ValueError):
+    """An input quantity or parameter is invalid (negative radius, one reading, dof <= 0...)."""
+
+
+class FormulaError(ViscometryError, ValueError):
+    """A formula typed by a user was rejected by the whitelist parser."""
+
+
+class UnitError(ViscometryError, ValueError):
+    """A unit is unknown or of the wrong dimension."""
+
+
+class CorrelationError(ViscometryError, ValueError):
+    """A correlation coefficient or matrix is invalid (|r| > 1, asymmetric, not PSD)."""
+
+
+class ModelError(ViscometryError, ValueError):
+    """A measurement model cannot be evaluated (unknown name, non-finite result...)."""
+
+
+class BudgetFileError(ViscometryError, ValueError):
+    """A budget file is malformed; the message names the file, table and key."""
+
+
+class ViscometryWarning(UserWarning):
+    """Base class of the package's warnings."""
+
+
+class ValidityWarning(ViscometryWarning):
+    """Legal input outside a model's validity (turbulent flow, short flow time, ...)."""
+
+
+class CorrelationWarning(ViscometryWarning):
+    """Correlated inputs make an approximation (e.g. Welch-Satterthwaite) questionable."""

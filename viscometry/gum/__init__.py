@@ -1,0 +1,52 @@
+"""The GUM engine: inputs, whitelist formula parser, models, propagation, rounding, budgets."""
+
+from viscometry.gum.budget import (
+    DEFAULT_COVERAGE_PROBABILITY,
+    Budget,
+    BudgetResult,
+    Constant,
+    Correlation,
+    CrossTerm,
+    InputContribution,
+)
+from viscometry.gum.formula import parse_formula
+from viscometry.gum.inputs import (
+    DISTRIBUTIONS,
+    InputQuantity,
+    coverage_factor_for,
+    dof_from_relative_uncertainty,
+)
+from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
+from viscometry.gum.propagation import (
+    combined_variance,
+    higher_order_variance,
+    truncate_dof,
+    validate_correlation,
+    welch_satterthwaite,
+)
+from viscometry.gum.rounding import RoundedResult, round_result
+
+__all__ = [
+    "DEFAULT_COVERAGE_PROBABILITY",
+    "DISTRIBUTIONS",
+    "Budget",
+    "BudgetResult",
+    "CompiledModel",
+    "Constant",
+    "Correlation",
+    "CrossTerm",
+    "InputContribution",
+    "InputQuantity",
+    "MeasurementModel",
+    "RoundedResult",
+    "combined_variance",
+    "compile_model",
+    "coverage_factor_for",
+    "dof_from_relative_uncertainty",
+    "higher_order_variance",
+    "parse_formula",
+    "round_result",
+    "truncate_dof",
+    "validate_correlation",
+    "welch_satterthwaite",
+]

@@ -1,0 +1,284 @@
+"""A whitelist parser that turns a formula typed by a user into a sympy expression.
+
+The text is parsed by Python's :mod:`ast` (which only *parses*, it never runs anything) and
+the tree is walked node by node. Only these nodes are accepted:
+
+* numbers (int and float literals, no complex, no strings, no booleans),
+* names from the allowed set (inputs and constants of the budget) and ``pi``, ``e``,
+* the binary operators ``+ - * / **``, unary ``+`` and ``-``, parentheses,
+* calls of a fixed set of functions by plain name with positional arguments: ``sqrt exp log
+  log10 sin cos tan asin acos atan abs`` and the registered reference-data functions.
+
+Everything else (attribute access, subscripts, other calls, keywords, lambdas,
+comprehensions, comparisons, strings, dunder names, unknown names) raises
+:class:`~viscometry.errors.FormulaError` naming the offending piece. Length, nesting depth,
+node count and the size of literal exponents are bounded, so a hostile formula cannot
+exhaust memory or time either. Nothing here calls ``eval``, ``exec``, ``sympify`` or
+``parse_expr``.
+"""
+
+from __future__ import annotations
+
+import ast
+import math
+from collections.abc import Callable, Iterable, Mapping
+
+import sympy as sp
+
+from viscometry.errors import FormulaError
+
+__all__ = [
+    "parse_formula",
+    "BASE_FUNCTIONS",
+    "MAX_FORMULA_LENGTH",
+    "MAX_DEPTH",
+    "MAX_NODES",
+    "MAX_EXPONENT",
+]
+
+#: Longest formula accepted, in characters.
+MAX_FORMULA_LENGTH = 2000
+#: Deepest nesting of the syntax tree accepted.
+MAX_DEPTH = 40
+#: Largest number of syntax-tree nodes accepted.
+MAX_NODES = 400
+#: Largest absolute value of a numeric exponent (``x**1000`` is refused).
+MAX_EXPONENT = 64
+
+BASE_FUNCTIONS: dict[str, Callable[..., sp.Expr]] = {
+    "sqrt": sp.sqrt,
+    "exp": sp.exp,
+    "log": sp.log,
+    "log10": lambda x: sp.log(x, 10),
+    "sin": sp.sin,
+    "cos": sp.cos,
+    "tan": sp.tan,
+    "asin": sp.asin,
+    "acos": sp.acos,
+    "atan": sp.atan,
+    "abs": sp.Abs,
+}
+
+_BUILTIN_CONSTANTS: dict[str, sp.Expr] = {"pi": sp.pi, "e": sp.E}
+
+_BINOPS: dict[type, Callable[[sp.Expr, sp.Expr], sp.Expr]] = {
+    ast.Add: lambda a, b: a + b,
+    ast.Sub: lambda a, b: a - b,
+    ast.Mult: lambda a, b: a * b,
+    ast.Div: lambda a, b: a / b,
+    ast.Pow: lambda a, b: a**b,
+}
+
+
+def _describe(node: ast.AST) -> str:
+    try:
+        return repr(ast.unparse(node)[:60])
+    except Exception:  # pragma: no cover - unparse of a parsed tree does not fail in practice
+        return type(node).__name__
+
+
+def _function_registry(extra: Mapping[str, Callable[..., sp.Expr]] | None) -> dict:
+    functions = dict(BASE_FUNCTIONS)
+    if extra:
+        functions.update(extra)
+    return functions
+
+
+def parse_formula(
+    text: str,
+    names: Iterable[str],
+    *,
+    functions: Mapping[str, Callable[..., sp.Expr]] | None = None,
+    field: str = "model",
+) -> sp.Expr:
+    """Parse a formula over known names into a sympy expression, by whitelist.
+
+    Parameters
+    ----------
+    text : str
+        The formula, in Python syntax, e.g. ``"pi * r**4 * dp * t / (8 * V * L)"``.
+    names : iterable of str
+        Names of the inputs and constants the formula may use; each becomes a real
+        sympy symbol.
+    functions : mapping, optional
+        Extra one-argument functions (name → callable building a sympy expression), e.g. the
+        reference-data functions ``water_viscosity``. They extend :data:`BASE_FUNCTIONS`.
+    field : str
+        What to call the formula in error messages (e.g. ``"[measurand] model"``).
+
+    Returns
+    -------
+    sympy.Expr
+        The expression, with symbols created as ``sympy.Symbol(name, real=True)``.
+
+    Raises
+    ------
+    FormulaError
+        For anything outside the whitelist, with the offending fragment in the message.
+
+    Examples
+    --------
+    >>> parse_formula("C * t - E / t**2", ["C", "t", "E"])
+    C*t - E/t**2
+    >>> parse_formula("__import__('os')", ["x"])
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.FormulaError: model: name '__import__' is not allowed (dunder names are refused)
+    """
+    if not isinstance(text, str):
+        raise FormulaError(f"{field} must be a string, got {type(text).__name__}")
+    if len(text) > MAX_FORMULA_LENGTH:
+        raise FormulaError(
+            f"{field} is {len(text)} characters long; the limit is {MAX_FORMULA_LENGTH}"
+        )
+    if not text.strip():
+        raise FormulaError(f"{field} is empty")
+    if "\x00" in text:
+        raise FormulaError(f"{field} contains a NUL character")
+    depth = deepest = 0
+    for ch in text:
+        if ch == "(":
+            depth += 1
+            deepest = max(deepest, depth)
+        elif ch == ")":
+            depth -= 1
+    if deepest > MAX_DEPTH:
+        raise FormulaError(f"{field}: parentheses nested {deepest} deep; the limit is {MAX_DEPTH}")
+    allowed = {}
+    for n in names:
+        if n in _BUILTIN_CONSTANTS:
+            raise FormulaError(f"{field}: the name {n!r} is reserved for a mathematical constant")
+        allowed[n] = sp.Symbol(n, real=True)
+    funcs = _function_registry(functions)
+    for n in allowed:
+        if n in funcs:
+            raise FormulaError(f"{field}: the name {n!r} is reserved for a function")
+    try:
+        tree = ast.parse(text.strip(), mode="eval")
+    except SyntaxError as exc:
+        raise FormulaError(
+            f"{field}: syntax error at column {exc.offset}: {text.strip()[:80]!r}"
+        ) from None
+    except (ValueError, RecursionError, MemoryError):
+        raise FormulaError(
+            f"{field}: the formula could not be parsed (too deep or invalid)"
+        ) from None
+    count = sum(1 for _ in ast.walk(tree))
+    if count > MAX_NODES:
+        raise FormulaError(f"{field} has {count} syntax nodes; the limit is {MAX_NODES}")
+    builder = _Builder(allowed, funcs, field)
+    expr = builder.build(tree.body, 0)
+    if not isinstance(expr, sp.Expr):  # pragma: no cover - defensive
+        raise FormulaError(f"{field} does not describe a numeric expression")
+    return expr
+
+
+class _Builder:
+    def __init__(self, allowed: dict[str, sp.Symbol], funcs: dict, field: str) -> None:
+        self.allowed = allowed
+        self.funcs = funcs
+        self.field = field
+
+    def fail(self, message: str) -> FormulaError:
+        return FormulaError(f"{self.field}: {message}")
+
+    def build(self, node: ast.AST, depth: int) -> sp.Expr:
+        if depth > MAX_DEPTH:
+            raise self.fail(f"nesting deeper than {MAX_DEPTH} levels")
+        d = depth + 1
+        if isinstance(node, ast.Constant):
+            return self.constant(node)
+        if isinstance(node, ast.Name):
+            return self.name(node.id)
+        if isinstance(node, ast.BinOp):
+            op = _BINOPS.get(type(node.op))
+            if op is None:
+                raise self.fail(
+                    f"operator {type(node.op).__name__} in {_describe(node)} is not allowed; "
+                    f"use + - * / **"
+                )
+            left = self.build(node.left, d)
+            right = self.build(node.right, d)
+            if isinstance(node.op, ast.Pow):
+                self.check_power(left, right, node)
+            return op(left, right)
+        if isinstance(node, ast.UnaryOp):
+            if isinstance(node.op, ast.USub):
+                return -self.build(node.operand, d)
+            if isinstance(node.op, ast.UAdd):
+                return self.build(node.operand, d)
+            raise self.fail(
+                f"operator {type(node.op).__name__} in {_describe(node)} is not allowed"
+            )
+        if isinstance(node, ast.Call):
+            return self.call(node, d)
+        if isinstance(node, ast.Attribute):
+            raise self.fail(f"attribute access {_describe(node)} is not allowed")
+        if isinstance(node, ast.Subscript):
+            raise self.fail(f"subscript {_describe(node)} is not allowed")
+        if isinstance(node, ast.Lambda):
+            raise self.fail("lambda expressions are not allowed")
+        if isinstance(node, (ast.ListComp, ast.SetComp, ast.DictComp, ast.GeneratorExp)):
+            raise self.fail("comprehensions are not allowed")
+        raise self.fail(f"{type(node).__name__} {_describe(node)} is not allowed")
+
+    def constant(self, node: ast.Constant) -> sp.Expr:
+        v = node.value
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise self.fail(f"literal {v!r:.40} is not allowed; only real numbers are")
+        if isinstance(v, int):
+            if abs(v) > 10**30:
+                raise self.fail(f"integer literal with {len(str(abs(v)))} digits is too large")
+            return sp.Integer(v)
+        if not math.isfinite(v):
+            raise self.fail(f"literal {v!r} is not finite")
+        return sp.Float(v, 17)
+
+    def name(self, ident: str) -> sp.Expr:
+        if ident.startswith("__") or ident.endswith("__"):
+            raise self.fail(f"name {ident!r} is not allowed (dunder names are refused)")
+        if ident in self.allowed:
+            return self.allowed[ident]
+        if ident in _BUILTIN_CONSTANTS:
+            return _BUILTIN_CONSTANTS[ident]
+        if ident in self.funcs:
+            raise self.fail(f"function {ident!r} must be called with an argument")
+        known = ", ".join(sorted(self.allowed)) or "none"
+        raise self.fail(f"unknown name {ident!r} (known inputs and constants: {known})")
+
+    def call(self, node: ast.Call, depth: int) -> sp.Expr:
+        if not isinstance(node.func, ast.Name):
+            raise self.fail(f"call {_describe(node)} is not allowed; only plain function names")
+        fname = node.func.id
+        if fname.startswith("__"):
+            raise self.fail(f"name {fname!r} is not allowed (dunder names are refused)")
+        if fname not in self.funcs:
+            allowed = ", ".join(sorted(self.funcs))
+            raise self.fail(f"function {fname!r} is not allowed (allowed: {allowed})")
+        if node.keywords:
+            raise self.fail(f"keyword arguments in {_describe(node)} are not allowed")
+        if len(node.args) != 1:
+            raise self.fail(f"function {fname!r} takes exactly one argument, got {len(node.args)}")
+        if isinstance(node.args[0], ast.Starred):
+            raise self.fail(f"starred arguments in {_describe(node)} are not allowed")
+        arg = self.build(node.args[0], depth)
+        return self.funcs[fname](arg)
+
+    def check_power(self, base: sp.Expr, exponent: sp.Expr, node: ast.AST) -> None:
+        if exponent.is_number:
+            try:
+                mag = abs(float(exponent))
+            except (TypeError, ValueError, OverflowError):
+                raise self.fail(f"exponent in {_describe(node)} is not a real number") from None
+            if mag > MAX_EXPONENT:
+                raise self.fail(
+                    f"exponent {float(exponent):g} in {_describe(node)} exceeds the limit "
+                    f"of {MAX_EXPONENT}"
+                )
+        if base.is_number and exponent.is_number:
+            try:
+                mag = abs(float(base))
+            except (TypeError, ValueError, OverflowError):
+                return
+            if mag > 1e6 and abs(float(exponent)) > 8:
+                raise self.fail(f"power {_describe(node)} is too large")

@@ -1,0 +1,645 @@
+"""Input quantities of a measurement model and their Type A / Type B evaluations.
+
+An :class:`InputQuantity` is an immutable record of one input: its estimate, standard
+uncertainty, the distribution that describes it, degrees of freedom and the evaluation type,
+plus description and source for the audit trail. Values are stored in the input's own unit
+(``unit``); the budget converts them to SI when it evaluates the model.
+
+The constructors implement the usual evaluations:
+
+========================  =========================================  ==========================
+constructor               standard uncertainty                       reference
+========================  =========================================  ==========================
+``from_readings``         s / sqrt(n), nu = n - 1                    JCGM 100:2008, 4.2
+``from_pooled``           s_p / sqrt(n), nu = nu_p                   JCGM 100:2008, 4.2.4
+``normal``                u as given                                 JCGM 100:2008, 4.3
+``from_expanded``         U / k, or U / t_p(nu) / z_p                JCGM 100:2008, 4.3.3-4.3.4
+``rectangular``           a / sqrt(3)                                JCGM 100:2008, 4.3.7
+``triangular``            a / sqrt(6)                                JCGM 100:2008, 4.3.9
+``arcsine``               a / sqrt(2)                                JCGM 101:2008, 6.4.6
+``trapezoidal``           a sqrt((1 + beta^2) / 6)                   JCGM 100:2008, 4.3.9
+========================  =========================================  ==========================
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import Literal
+
+import numpy as np
+from scipy import stats
+
+from viscometry.errors import InputError
+
+__all__ = [
+    "Distribution",
+    "DISTRIBUTIONS",
+    "InputQuantity",
+    "dof_from_relative_uncertainty",
+    "check_name",
+]
+
+Distribution = Literal["normal", "student_t", "rectangular", "triangular", "arcsine", "trapezoidal"]
+
+#: The distributions the engine knows, with the divisor that turns a half-width into a
+#: standard uncertainty (``None`` where the distribution is not given by a half-width).
+DISTRIBUTIONS: dict[str, float | None] = {
+    "normal": None,
+    "student_t": None,
+    "rectangular": math.sqrt(3.0),
+    "triangular": math.sqrt(6.0),
+    "arcsine": math.sqrt(2.0),
+    "trapezoidal": None,
+}
+
+_MAX_NAME_LENGTH = 64
+
+
+def check_name(name: object, field: str = "name") -> str:
+    """Check that ``name`` is a valid quantity name (a Python identifier, not a dunder).
+
+    Raises
+    ------
+    InputError
+        If the name is not a string, not an identifier, starts with an underscore or is too long.
+    """
+    if not isinstance(name, str) or not name.isidentifier() or name.startswith("_"):
+        raise InputError(
+            f"{field} must be an identifier of letters, digits and '_' not starting with '_', "
+            f"got {name!r}"
+        )
+    if len(name) > _MAX_NAME_LENGTH:
+        raise InputError(f"{field} is longer than {_MAX_NAME_LENGTH} characters: {name[:20]!r}...")
+    if not name.isascii():
+        raise InputError(f"{field} must use ASCII letters only, got {name!r}")
+    return name
+
+
+def _finite(value: object, field: str) -> float:
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        raise InputError(f"{field} must be a number, got {value!r}") from None
+    if isinstance(value, bool):
+        raise InputError(f"{field} must be a number, got {value!r}")
+    if not math.isfinite(x):
+        raise InputError(f"{field} must be finite, got {x!r}")
+    return x
+
+
+def _positive(value: object, field: str, *, allow_zero: bool = False) -> float:
+    x = _finite(value, field)
+    if x < 0 or (x == 0 and not allow_zero):
+        bound = "non-negative" if allow_zero else "positive"
+        raise InputError(f"{field} must be {bound}, got {x!r}")
+    return x
+
+
+def _dof(value: object, field: str = "dof") -> float:
+    if value is None:
+        return math.inf
+    if isinstance(value, str) and value.strip().lower() in {"inf", "infinity"}:
+        return math.inf
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        raise InputError(f"{field} must be a positive number or 'inf', got {value!r}") from None
+    if math.isnan(x) or x <= 0:
+        raise InputError(f"{field} must be positive, got {x!r}")
+    return x
+
+
+def _probability(value: object, field: str = "coverage_probability") -> float:
+    p = _finite(value, field)
+    if not 0.0 < p < 1.0:
+        raise InputError(f"{field} must lie strictly between 0 and 1, got {p!r}")
+    return p
+
+
+def dof_from_relative_uncertainty(relative_uncertainty: float) -> float:
+    """Degrees of freedom of a Type B standard uncertainty from its own relative uncertainty.
+
+    Parameters
+    ----------
+    relative_uncertainty : float
+        Relative uncertainty of the standard uncertainty, Δu/u (e.g. 0.25 for 25 %) [1].
+
+    Returns
+    -------
+    float
+        ν ≈ ½ (Δu/u)⁻² [1].
+
+    References
+    ----------
+    JCGM 100:2008, G.4.2, eq. (G.3).
+
+    Examples
+    --------
+    >>> dof_from_relative_uncertainty(0.25)
+    8.0
+    """
+    r = _positive(relative_uncertainty, "relative_uncertainty_of_uncertainty")
+    return 0.5 / r**2
+
+
+@dataclass(frozen=True, slots=True)
+class InputQuantity:
+    """One input quantity of a measurement model (immutable).
+
+    Parameters
+    ----------
+    name : str
+        Symbol used in the model formula (an identifier).
+    value : float
+        Estimate x_i, in ``unit``.
+    standard_uncertainty : float
+        Standard uncertainty u(x_i) ≥ 0, in ``unit`` (a temperature *difference* for
+        offset units such as degC).
+    unit : str
+        Unit of the estimate (pint syntax, e.g. ``"mm"``, ``"mm^2/s"``; ``""`` for
+        dimensionless).
+    distribution : str
+        One of :data:`DISTRIBUTIONS`; used by the Monte Carlo method and reported in the table.
+    dof : float
+        Degrees of freedom ν_i (``math.inf`` for an exactly known standard uncertainty).
+    evaluation : {"A", "B"}
+        Type A (statistical) or Type B evaluation.
+    description, source : str
+        Free text for the audit trail.
+    half_width : float or None
+        Half-width *a* of a bounded distribution, in ``unit``.
+    beta : float or None
+        Ratio of top to base half-width of a trapezoidal distribution (0 ≤ β ≤ 1).
+    readings : tuple of float or None
+        The repeated readings a Type A input was evaluated from, kept for the audit trail.
+    """
+
+    name: str
+    value: float
+    standard_uncertainty: float
+    unit: str = ""
+    distribution: Distribution = "normal"
+    dof: float = math.inf
+    evaluation: Literal["A", "B"] = "B"
+    description: str = ""
+    source: str = ""
+    half_width: float | None = None
+    beta: float | None = None
+    readings: tuple[float, ...] | None = None
+
+    def __post_init__(self) -> None:
+        check_name(self.name, "input name")
+        object.__setattr__(self, "value", _finite(self.value, f"{self.name}.value"))
+        object.__setattr__(
+            self,
+            "standard_uncertainty",
+            _positive(
+                self.standard_uncertainty, f"{self.name}.standard_uncertainty", allow_zero=True
+            ),
+        )
+        object.__setattr__(self, "dof", _dof(self.dof, f"{self.name}.dof"))
+        if self.distribution not in DISTRIBUTIONS:
+            raise InputError(
+                f"{self.name}.distribution must be one of {', '.join(DISTRIBUTIONS)}, "
+                f"got {self.distribution!r}"
+            )
+        if self.evaluation not in ("A", "B"):
+            raise InputError(f"{self.name}.evaluation must be 'A' or 'B', got {self.evaluation!r}")
+        if not isinstance(self.unit, str):
+            raise InputError(f"{self.name}.unit must be a string, got {self.unit!r}")
+        if self.beta is not None:
+            b = _finite(self.beta, f"{self.name}.beta")
+            if not 0.0 <= b <= 1.0:
+                raise InputError(f"{self.name}.beta must lie in [0, 1], got {b!r}")
+        if self.distribution == "trapezoidal" and self.beta is None:
+            raise InputError(f"{self.name}: a trapezoidal distribution needs beta in [0, 1]")
+        if self.distribution == "student_t" and not math.isfinite(self.dof):
+            raise InputError(f"{self.name}: a student_t distribution needs finite dof")
+
+    # ------------------------------------------------------------------ Type A
+    @classmethod
+    def from_readings(
+        cls,
+        name: str,
+        readings: Sequence[float],
+        unit: str = "",
+        *,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type A evaluation from n repeated, independent readings.
+
+        The estimate is the arithmetic mean; u = s/√n with s the experimental standard
+        deviation; ν = n − 1 (JCGM 100:2008, 4.2.1-4.2.3). The distribution recorded for the
+        Monte Carlo method is the scaled and shifted t distribution (JCGM 101:2008, 6.4.9).
+
+        Raises
+        ------
+        InputError
+            Fewer than two readings (one reading carries no Type A information), or a reading
+            that is not a finite number.
+
+        Examples
+        --------
+        >>> q = InputQuantity.from_readings("t", [10.0, 10.2, 10.1, 10.3], "s")
+        >>> round(q.value, 3), round(q.standard_uncertainty, 4), q.dof
+        (10.15, 0.0645, 3.0)
+        """
+        x = _readings(name, readings)
+        n = x.size
+        s = float(np.std(x, ddof=1))
+        return cls(
+            name=name,
+            value=float(np.mean(x)),
+            standard_uncertainty=s / math.sqrt(n),
+            unit=unit,
+            distribution="student_t",
+            dof=float(n - 1),
+            evaluation="A",
+            description=description,
+            source=source,
+            readings=tuple(float(v) for v in x),
+        )
+
+    @classmethod
+    def from_pooled(
+        cls,
+        name: str,
+        readings: Sequence[float],
+        pooled_standard_deviation: float,
+        pooled_dof: float,
+        unit: str = "",
+        *,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type A evaluation of the mean of n new readings with a pooled standard deviation.
+
+        u = s_p/√n where s_p comes from an earlier, well-characterised study with ν_p degrees of
+        freedom, which are also those of u (JCGM 100:2008, 4.2.4). A single new reading is
+        allowed here because the dispersion is known from the earlier study.
+
+        Examples
+        --------
+        >>> q = InputQuantity.from_pooled("t", [200.1, 200.3], 0.2, 30, "s")
+        >>> round(q.standard_uncertainty, 4), q.dof
+        (0.1414, 30.0)
+        """
+        x = _readings(name, readings, minimum=1)
+        sp = _positive(pooled_standard_deviation, f"{name}.pooled_standard_deviation")
+        nu = _dof(pooled_dof, f"{name}.pooled_dof")
+        return cls(
+            name=name,
+            value=float(np.mean(x)),
+            standard_uncertainty=sp / math.sqrt(x.size),
+            unit=unit,
+            distribution="student_t" if math.isfinite(nu) else "normal",
+            dof=nu,
+            evaluation="A",
+            description=description,
+            source=source,
+            readings=tuple(float(v) for v in x),
+        )
+
+    # ------------------------------------------------------------------ Type B
+    @classmethod
+    def normal(
+        cls,
+        name: str,
+        value: float,
+        standard_uncertainty: float,
+        unit: str = "",
+        *,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input with a normal distribution and a given standard uncertainty.
+
+        Examples
+        --------
+        >>> InputQuantity.normal("V", 2.0, 0.01, "mL").standard_uncertainty
+        0.01
+        """
+        return cls(
+            name=name,
+            value=value,
+            standard_uncertainty=standard_uncertainty,
+            unit=unit,
+            distribution="normal",
+            dof=_type_b_dof(name, dof, relative_uncertainty_of_uncertainty),
+            evaluation="B",
+            description=description,
+            source=source,
+        )
+
+    @classmethod
+    def from_expanded(
+        cls,
+        name: str,
+        value: float,
+        expanded_uncertainty: float,
+        unit: str = "",
+        *,
+        coverage_factor: float | None = None,
+        coverage_probability: float | None = None,
+        dof: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input from an expanded uncertainty quoted on a certificate.
+
+        Give either ``coverage_factor`` (u = U/k, JCGM 100:2008, 4.3.3) or
+        ``coverage_probability`` (u = U/t_p(ν) when ``dof`` is given, else U/z_p for a normal
+        distribution, JCGM 100:2008, 4.3.4 and G.3).
+
+        Examples
+        --------
+        >>> round(InputQuantity.from_expanded("C", 1.0, 0.002, coverage_factor=2).standard_uncertainty, 6)
+        0.001
+        >>> q = InputQuantity.from_expanded("C", 1.0, 1.96, coverage_probability=0.95)
+        >>> round(q.standard_uncertainty, 4)
+        1.0
+        """
+        big_u = _positive(expanded_uncertainty, f"{name}.expanded_uncertainty", allow_zero=True)
+        if (coverage_factor is None) == (coverage_probability is None):
+            raise InputError(
+                f"{name}: give exactly one of coverage_factor or coverage_probability "
+                f"with expanded_uncertainty"
+            )
+        nu = _dof(dof, f"{name}.dof")
+        if coverage_factor is not None:
+            k = _positive(coverage_factor, f"{name}.coverage_factor")
+        else:
+            p = _probability(coverage_probability, f"{name}.coverage_probability")
+            k = coverage_factor_for(p, nu)
+        return cls(
+            name=name,
+            value=value,
+            standard_uncertainty=big_u / k,
+            unit=unit,
+            distribution="normal" if not math.isfinite(nu) else "student_t",
+            dof=nu,
+            evaluation="B",
+            description=description,
+            source=source,
+        )
+
+    @classmethod
+    def _bounded(
+        cls,
+        kind: str,
+        name: str,
+        value: float | None,
+        half_width: float | None,
+        unit: str,
+        lower: float | None,
+        upper: float | None,
+        beta: float | None,
+        dof: float | None,
+        relative_uncertainty_of_uncertainty: float | None,
+        description: str,
+        source: str,
+    ) -> InputQuantity:
+        if half_width is not None and (lower is not None or upper is not None):
+            raise InputError(f"{name}: give either half_width or lower/upper bounds, not both")
+        if half_width is None:
+            if lower is None or upper is None:
+                raise InputError(f"{name}: a {kind} distribution needs half_width or both bounds")
+            lo = _finite(lower, f"{name}.lower")
+            hi = _finite(upper, f"{name}.upper")
+            if not hi > lo:
+                raise InputError(f"{name}.upper must exceed lower, got lower={lo!r}, upper={hi!r}")
+            a = (hi - lo) / 2.0
+            centre = (hi + lo) / 2.0
+            if value is not None and _finite(value, f"{name}.value") != centre:
+                raise InputError(
+                    f"{name}.value {value!r} is not the centre {centre!r} of [lower, upper]; "
+                    f"a symmetric {kind} distribution is centred on its estimate"
+                )
+            value = centre
+        else:
+            a = _positive(half_width, f"{name}.half_width", allow_zero=True)
+            if value is None:
+                raise InputError(f"{name}: value is required with half_width")
+        if kind == "trapezoidal":
+            if beta is None:
+                raise InputError(f"{name}: a trapezoidal distribution needs beta in [0, 1]")
+            b = _finite(beta, f"{name}.beta")
+            if not 0.0 <= b <= 1.0:
+                raise InputError(f"{name}.beta must lie in [0, 1], got {b!r}")
+            u = a * math.sqrt((1.0 + b * b) / 6.0)
+        else:
+            divisor = DISTRIBUTIONS[kind]
+            assert divisor is not None
+            u = a / divisor
+        return cls(
+            name=name,
+            value=value,
+            standard_uncertainty=u,
+            unit=unit,
+            distribution=kind,  # type: ignore[arg-type]
+            dof=_type_b_dof(name, dof, relative_uncertainty_of_uncertainty),
+            evaluation="B",
+            description=description,
+            source=source,
+            half_width=a,
+            beta=beta if kind == "trapezoidal" else None,
+        )
+
+    @classmethod
+    def rectangular(
+        cls,
+        name: str,
+        value: float | None = None,
+        half_width: float | None = None,
+        unit: str = "",
+        *,
+        lower: float | None = None,
+        upper: float | None = None,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input with a rectangular distribution: u = a/√3 (JCGM 100:2008, 4.3.7).
+
+        Examples
+        --------
+        >>> round(InputQuantity.rectangular("E", 0.0, 3.0).standard_uncertainty, 6)
+        1.732051
+        >>> InputQuantity.rectangular("x", lower=1.0, upper=3.0).value
+        2.0
+        """
+        return cls._bounded(
+            "rectangular", name, value, half_width, unit, lower, upper, None, dof,
+            relative_uncertainty_of_uncertainty, description, source,
+        )  # fmt: skip
+
+    @classmethod
+    def triangular(
+        cls,
+        name: str,
+        value: float | None = None,
+        half_width: float | None = None,
+        unit: str = "",
+        *,
+        lower: float | None = None,
+        upper: float | None = None,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input with a symmetric triangular distribution: u = a/√6 (JCGM 100:2008, 4.3.9).
+
+        Examples
+        --------
+        >>> round(InputQuantity.triangular("x", 0.0, 6.0).standard_uncertainty, 6)
+        2.44949
+        """
+        return cls._bounded(
+            "triangular", name, value, half_width, unit, lower, upper, None, dof,
+            relative_uncertainty_of_uncertainty, description, source,
+        )  # fmt: skip
+
+    @classmethod
+    def arcsine(
+        cls,
+        name: str,
+        value: float | None = None,
+        half_width: float | None = None,
+        unit: str = "",
+        *,
+        lower: float | None = None,
+        upper: float | None = None,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input with an arcsine (U-shaped) distribution: u = a/√2 (JCGM 101:2008, 6.4.6).
+
+        Typical of a quantity that oscillates sinusoidally, e.g. a bath temperature cycling
+        around its set point.
+
+        Examples
+        --------
+        >>> round(InputQuantity.arcsine("dT", 0.0, 0.02, "K").standard_uncertainty, 6)
+        0.014142
+        """
+        return cls._bounded(
+            "arcsine", name, value, half_width, unit, lower, upper, None, dof,
+            relative_uncertainty_of_uncertainty, description, source,
+        )  # fmt: skip
+
+    @classmethod
+    def trapezoidal(
+        cls,
+        name: str,
+        value: float | None = None,
+        half_width: float | None = None,
+        unit: str = "",
+        *,
+        beta: float = 0.5,
+        lower: float | None = None,
+        upper: float | None = None,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """Type B input with a symmetric trapezoidal distribution.
+
+        Base half-width a, top half-width βa: u = a √((1 + β²)/6) (JCGM 100:2008, 4.3.9).
+        β = 1 is rectangular, β = 0 triangular.
+
+        Examples
+        --------
+        >>> round(InputQuantity.trapezoidal("x", 0.0, 1.0, beta=1.0).standard_uncertainty, 6)
+        0.57735
+        """
+        return cls._bounded(
+            "trapezoidal", name, value, half_width, unit, lower, upper, beta, dof,
+            relative_uncertainty_of_uncertainty, description, source,
+        )  # fmt: skip
+
+    # ------------------------------------------------------------------ helpers
+    @property
+    def relative_uncertainty(self) -> float:
+        """u(x)/|x|, or NaN when the estimate is zero (relative uncertainty undefined)."""
+        return self.standard_uncertainty / abs(self.value) if self.value != 0 else math.nan
+
+    def with_uncertainty(self, standard_uncertainty: float, **changes: object) -> InputQuantity:
+        """A copy with a new standard uncertainty (a what-if), other fields unchanged.
+
+        A bounded distribution keeps its shape: the half-width is rescaled to match.
+        """
+        u = _positive(standard_uncertainty, f"{self.name}.standard_uncertainty", allow_zero=True)
+        hw = self.half_width
+        if hw is not None and self.standard_uncertainty > 0:
+            hw = hw * u / self.standard_uncertainty
+        return replace(self, standard_uncertainty=u, half_width=hw, **changes)  # type: ignore[arg-type]
+
+
+def coverage_factor_for(coverage_probability: float, dof: float = math.inf) -> float:
+    """Coverage factor for a coverage probability: t quantile for finite ν, else normal.
+
+    Parameters
+    ----------
+    coverage_probability : float
+        Two-sided coverage probability p, 0 < p < 1 [1].
+    dof : float
+        Degrees of freedom ν (``math.inf`` for the normal distribution).
+
+    Returns
+    -------
+    float
+        k_p = t_p(ν), the (1+p)/2 quantile of Student's t (JCGM 100:2008, G.3, Table G.2).
+
+    Examples
+    --------
+    >>> round(coverage_factor_for(0.95), 3)
+    1.96
+    >>> round(coverage_factor_for(0.99, 16), 2)
+    2.92
+    """
+    p = _probability(coverage_probability)
+    nu = _dof(dof)
+    q = 0.5 * (1.0 + p)
+    if math.isinf(nu):
+        return float(stats.norm.ppf(q))
+    return float(stats.t.ppf(q, nu))
+
+
+def _readings(name: str, readings: Sequence[float], minimum: int = 2) -> np.ndarray:
+    if isinstance(readings, (str, bytes)):
+        raise InputError(f"{name}.readings must be a list of numbers, got {readings!r}")
+    try:
+        values = [float(r) for r in readings]
+    except (TypeError, ValueError):
+        raise InputError(f"{name}.readings must be a list of numbers, got {readings!r}") from None
+    x = np.asarray(values, dtype=float)
+    if x.size < minimum:
+        if minimum == 2:
+            raise InputError(
+                f"{name}.readings: a Type A evaluation needs at least 2 readings, got {x.size}; "
+                f"one reading gives no estimate of dispersion (use a pooled standard deviation, "
+                f"JCGM 100:2008 4.2.4, or a Type B evaluation)"
+            )
+        raise InputError(f"{name}.readings must not be empty")
+    bad = ~np.isfinite(x)
+    if bad.any():
+        raise InputError(f"{name}.readings must be finite, got {x[bad][0]!r}")
+    return x
+
+
+def _type_b_dof(name: str, dof: float | None, rel: float | None) -> float:
+    if dof is not None and rel is not None:
+        raise InputError(f"{name}: give dof or relative_uncertainty_of_uncertainty, not both")
+    if rel is not None:
+        return dof_from_relative_uncertainty(rel)
+    return _dof(dof, f"{name}.dof")

@@ -1,0 +1,245 @@
+"""Units at the edges: one pint registry, conversion factors to SI, dimension checks.
+
+The engine works on SI floats. This module is where unit strings typed by users (budget
+files, widgets, the API) are parsed and turned into plain conversion factors:
+``x_SI = scale * x + offset``. Uncertainties, being differences, use ``scale`` only — so a
+temperature given in ``degC`` has its estimate shifted by 273.15 K while its uncertainty is
+a temperature difference in kelvin.
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+from collections.abc import Callable, Mapping
+
+import numpy as np
+import pint
+import sympy as sp
+
+from viscometry.errors import UnitError
+
+__all__ = [
+    "ureg",
+    "parse_unit",
+    "si_conversion",
+    "si_unit_label",
+    "same_dimension",
+    "check_model_dimensions",
+    "format_unit",
+    "convert",
+]
+
+#: The package's single unit registry.
+ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+ureg.formatter.default_format = "~P"
+
+_UNIT_TEXT = re.compile(r"^[A-Za-z0-9_ *./^()\-+µμ°%·²³]*$")
+_MAX_UNIT_LENGTH = 80
+
+
+@functools.lru_cache(maxsize=512)
+def _parse(text: str) -> pint.Unit:
+    q = ureg.Quantity(1.0, text) if text else ureg.Quantity(1.0)
+    return q.units
+
+
+def parse_unit(text: str, field: str = "unit") -> pint.Unit:
+    """Parse a unit string; ``""`` or ``"1"`` is dimensionless.
+
+    Raises
+    ------
+    UnitError
+        Naming the field and the text when the unit is unknown or malformed.
+
+    Examples
+    --------
+    >>> str(parse_unit("mm^2/s"))
+    'mm²/s'
+    """
+    if not isinstance(text, str):
+        raise UnitError(f"{field} must be a string, got {text!r}")
+    t = text.strip()
+    if t in ("1", "-"):
+        t = ""
+    if len(t) > _MAX_UNIT_LENGTH or not _UNIT_TEXT.match(t):
+        raise UnitError(f"{field}: {text[:40]!r} is not a unit expression")
+    t = (
+        t.replace("·", "*")
+        .replace("²", "^2")
+        .replace("³", "^3")
+        .replace("μ", "u")
+        .replace("µ", "u")
+    )
+    try:
+        unit = _parse(t)
+    except (pint.errors.PintError, AttributeError, TypeError, ValueError, SyntaxError, KeyError):
+        raise UnitError(f"{field}: unknown unit {text!r}") from None
+    except Exception:  # pint's parser may raise odd errors on odd text
+        raise UnitError(f"{field}: unknown unit {text!r}") from None
+    return unit
+
+
+@functools.lru_cache(maxsize=512)
+def _conversion(unit_text: str) -> tuple[float, float]:
+    unit = parse_unit(unit_text)
+    zero = ureg.Quantity(0.0, unit).to_base_units().magnitude
+    one = ureg.Quantity(1.0, unit).to_base_units().magnitude
+    return float(one - zero), float(zero)
+
+
+def si_conversion(unit: str, field: str = "unit") -> tuple[float, float]:
+    """Scale and offset with x_SI = scale·x + offset (offset is non-zero only for degC, degF).
+
+    Examples
+    --------
+    >>> si_conversion("mm")
+    (0.001, 0.0)
+    >>> si_conversion("degC")
+    (1.0, 273.15)
+    """
+    parse_unit(unit, field)
+    return _conversion(unit.strip())
+
+
+def si_unit_label(unit: str) -> str:
+    """The SI base unit that a unit converts to (for labels), e.g. ``'kg / m / s'``."""
+    u = ureg.Quantity(1.0, parse_unit(unit)).to_base_units().units
+    return format_unit(u)
+
+
+def format_unit(unit: pint.Unit | str) -> str:
+    """Compact, readable unit text, e.g. ``'mm²/s'``; ``''`` for dimensionless."""
+    u = parse_unit(unit) if isinstance(unit, str) else unit
+    if u == ureg.dimensionless:
+        return ""
+    return f"{u:~P}"
+
+
+def same_dimension(a: str, b: str) -> bool:
+    """True when two unit strings measure the same kind of quantity."""
+    return parse_unit(a).dimensionality == parse_unit(b).dimensionality
+
+
+def convert(value: float, from_unit: str, to_unit: str) -> float:
+    """Convert a value between compatible units (offsets handled)."""
+    if not same_dimension(from_unit, to_unit):
+        raise UnitError(f"cannot convert {from_unit!r} to {to_unit!r}: different dimensions")
+    s1, o1 = si_conversion(from_unit)
+    s2, o2 = si_conversion(to_unit)
+    return (value * s1 + o1 - o2) / s2
+
+
+def sensitivity_unit(output_unit: str, input_unit: str) -> str:
+    """Unit of a sensitivity coefficient: output unit per input unit.
+
+    For an offset input unit (degC) the coefficient is per kelvin-sized step, so the base
+    unit is used. A ratio of like units that does not cancel exactly (mm/m) is kept as text.
+
+    Examples
+    --------
+    >>> sensitivity_unit("mPa*s", "mm")
+    'mPa·s/mm'
+    >>> sensitivity_unit("mm", "1/K")
+    'K·mm'
+    >>> sensitivity_unit("mm", "mm")
+    '1'
+    """
+    out = parse_unit(output_unit)
+    inp = parse_unit(input_unit)
+    if si_conversion(input_unit)[1] != 0.0:  # offset unit: per degree of difference
+        inp = ureg.Unit(f"delta_{inp}")
+    ratio = out / inp
+    if ratio == ureg.dimensionless:
+        return "1"
+    if ratio.dimensionless:
+        return f"{format_unit(out)}/{_wrap(format_unit(inp))}"
+    return format_unit(ratio)
+
+
+def _wrap(text: str) -> str:
+    return f"({text})" if any(c in text for c in "/·*") else text
+
+
+def check_model_dimensions(
+    expression: sp.Expr,
+    units: Mapping[str, str],
+    measurand_unit: str,
+    *,
+    function_placeholders: Mapping[sp.Symbol, tuple[sp.Expr, str, str]] | None = None,
+    field: str = "[measurand] model",
+) -> None:
+    """Check that a model's dimensions agree with the measurand's unit.
+
+    The expression is evaluated once with pint quantities of magnitude 1 in each name's unit
+    (converted to base units), so an addition of unlike dimensions or the exponential of a
+    dimensioned quantity is found, and the result's dimension is compared with the
+    measurand's.
+
+    Parameters
+    ----------
+    expression : sympy.Expr
+    units : mapping name → unit string
+    measurand_unit : str
+    function_placeholders : mapping, optional
+        Symbols standing for calls of reference-data functions: symbol → (argument
+        expression, argument unit, result unit). Each argument is checked against its unit and
+        the symbol takes the result unit.
+
+    Raises
+    ------
+    UnitError
+        Naming the measurand unit and the model's dimension, or the inconsistent operation.
+    """
+    placeholders = dict(function_placeholders or {})
+    values: dict[sp.Symbol, object] = {}
+    for s in expression.free_symbols:
+        if s in placeholders:
+            continue
+        if s.name not in units:
+            raise UnitError(f"{field}: no unit known for {s.name!r}")
+        values[s] = ureg.Quantity(
+            1.0, parse_unit(units[s.name], f"unit of {s.name}")
+        ).to_base_units()
+    for s, (arg, arg_unit, result_unit) in placeholders.items():
+        got = _evaluate_with_units(arg, values, field)
+        want = ureg.Quantity(1.0, parse_unit(arg_unit))
+        if _dimensionality(got) != want.dimensionality:
+            raise UnitError(
+                f"{field}: argument {arg} has dimension {_dimensionality(got)}, expected {arg_unit!r}"
+            )
+        values[s] = ureg.Quantity(1.0, parse_unit(result_unit)).to_base_units()
+    result = _evaluate_with_units(expression, values, field)
+    want = parse_unit(measurand_unit, "[measurand] unit")
+    got_dim = _dimensionality(result)
+    if got_dim != ureg.Quantity(1.0, want).dimensionality:
+        base = _base_label(result)
+        raise UnitError(
+            f"{field} has units of {base} (dimension {got_dim or 'dimensionless'}), which do not "
+            f"match the measurand unit {measurand_unit!r} "
+            f"(dimension {ureg.Quantity(1.0, want).dimensionality or 'dimensionless'})"
+        )
+
+
+def _dimensionality(x: object) -> object:
+    return x.dimensionality if isinstance(x, ureg.Quantity) else ureg.dimensionless.dimensionality
+
+
+def _base_label(x: object) -> str:
+    if isinstance(x, ureg.Quantity):
+        return format_unit(x.to_base_units().units) or "1"
+    return "1"
+
+
+def _evaluate_with_units(expr: sp.Expr, values: Mapping[sp.Symbol, object], field: str) -> object:
+    syms = sorted(expr.free_symbols, key=lambda s: s.name)
+    fn: Callable = sp.lambdify(syms, expr, modules="numpy")
+    try:
+        with np.errstate(all="ignore"):
+            return fn(*(values[s] for s in syms))
+    except pint.errors.DimensionalityError as exc:
+        raise UnitError(f"{field} is dimensionally inconsistent: {exc}") from None
+    except (
+        pint.errors.OffsetUnitCalculusError
+    ) as exc:  # pragma: no cover - base units remove offsets
+        raise UnitError(f"{field}: offset units misused: {exc}") from None
