@@ -1,0 +1,464 @@
+"""Tests of the Monte Carlo core, viscometry.gum.montecarlo (JCGM 101:2008).
+
+All runs are seeded. Tolerances on Monte Carlo estimates are a few standard errors of the
+estimate at the number of trials used; each is justified beside the assertion. Check values
+come from JCGM 101:2008 (tagged "from memory" as in REFERENCES.md, and then also recomputed
+from first principles with scipy) or from exact analytic results.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from math import comb, factorial
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import integrate, optimize, stats
+
+from viscometry.errors import CorrelationError, CorrelationWarning, InputError, ModelError
+from viscometry.gum.inputs import InputQuantity
+from viscometry.gum.montecarlo import (
+    MonteCarloResult,
+    coverage_interval,
+    draw_inputs,
+    numerical_tolerance,
+    run_adaptive,
+    run_monte_carlo,
+    validate_against,
+)
+
+M = 10**6
+Z975 = float(stats.norm.ppf(0.975))  # 1.959964..., exact normal quantile (scipy)
+
+
+def _sum(*xs):
+    return sum(xs)
+
+
+def _rect(name: str, sd: float) -> InputQuantity:
+    """Rectangular input centred on 0 with standard deviation ``sd`` (half-width sd·√3)."""
+    return InputQuantity.rectangular(name, 0.0, sd * math.sqrt(3.0))
+
+
+# ---------------------------------------------------------------- Irwin-Hall recomputation
+def _irwin_hall_cdf(x: float, n: int) -> float:
+    """CDF of the sum of n independent U(0, 1) (Irwin-Hall; exact closed form)."""
+    if x <= 0:
+        return 0.0
+    if x >= n:
+        return 1.0
+    return sum((-1) ** k * comb(n, k) * (x - k) ** n for k in range(int(x) + 1)) / factorial(n)
+
+
+def _irwin_hall_pdf(x: float, n: int) -> float:
+    if x <= 0 or x >= n:
+        return 0.0
+    return sum((-1) ** k * comb(n, k) * (x - k) ** (n - 1) for k in range(int(x) + 1)) / factorial(
+        n - 1
+    )
+
+
+def _quantile_four_rectangular_sd1(prob: float) -> float:
+    """Quantile of the sum of four rectangulars of sd 1: 2√3·(S − 2), S ~ Irwin-Hall(4)."""
+    s = optimize.brentq(lambda x: _irwin_hall_cdf(x, 4) - prob, 0.0, 4.0, xtol=1e-14)
+    return 2.0 * math.sqrt(3.0) * (s - 2.0)
+
+
+def _quantile_three_sd1_one_sd10(prob: float) -> float:
+    """Quantile of R₁+R₂+R₃+R₄ (rectangular, sd 1, 1, 1, 10) by numerical convolution."""
+    a, big = math.sqrt(3.0), 10.0 * math.sqrt(3.0)
+
+    def pdf3(t: float) -> float:  # sum of three U(−a, a)
+        return _irwin_hall_pdf((t + 3 * a) / (2 * a), 3) / (2 * a)
+
+    def cdf(y: float) -> float:
+        return integrate.quad(
+            lambda t: pdf3(t) * min(1.0, max(0.0, (y - t + big) / (2 * big))),
+            -3 * a,
+            3 * a,
+            points=[-a, a],
+            epsabs=1e-13,
+            epsrel=1e-13,
+        )[0]
+
+    return optimize.brentq(lambda y: cdf(y) - prob, 0.0, big + 3 * a, xtol=1e-12)
+
+
+# ---------------------------------------------------------------- JCGM 101:2008, 9.2
+def test_additive_model_four_normal_inputs():
+    # JCGM 101:2008, 9.2.2 [from memory]: u = 2.00, 95 % interval ±3.92.
+    # Recomputed: Y ~ N(0, 4) exactly, so u = 2 and y_high = 2·z₀.₉₇₅ = 3.9199.
+    xs = [InputQuantity.normal(f"x{i}", 0.0, 1.0) for i in range(4)]
+    res = run_monte_carlo(_sum, xs, trials=M, seed=20080901)
+    # SE(u) = u/√(2M) = 0.0014; SE(mean) = 0.002; SE(quantile) ≈ 0.0054 → ~4-5 SE allowed.
+    assert res.standard_uncertainty == pytest.approx(2.0, abs=0.007)
+    assert res.value == pytest.approx(0.0, abs=0.01)
+    low, high = res.symmetric_interval
+    assert low == pytest.approx(-2 * Z975, abs=0.025)
+    assert high == pytest.approx(2 * Z975, abs=0.025)
+    # The printed figures of 9.2.2, as a looser second check [from memory].
+    assert round(res.standard_uncertainty, 2) == 2.00
+    assert round(high, 2) in (3.91, 3.92, 3.93)
+
+
+def test_additive_model_four_rectangular_inputs_validated():
+    # JCGM 101:2008, 9.2.3 [from memory]: first-order ±3.92, Monte Carlo ±3.88, validated at
+    # δ = 0.05. Recomputed: the exact 97.5 % quantile of the Irwin-Hall sum is 3.8794.
+    exact = _quantile_four_rectangular_sd1(0.975)
+    assert exact == pytest.approx(3.88, abs=0.005)
+    xs = [_rect(f"x{i}", 1.0) for i in range(4)]
+    res = run_monte_carlo(_sum, xs, trials=M, seed=7)
+    # SE(quantile) = √(p(1−p)/M)/f(y) ≈ 0.0156/... ≈ 0.005 at M = 10⁶ → 0.02 is 4 SE.
+    assert res.symmetric_interval[0] == pytest.approx(-exact, abs=0.02)
+    assert res.symmetric_interval[1] == pytest.approx(exact, abs=0.02)
+    # δ: u(y) = 2.0 = 20 × 10⁻¹ with n_dig = 2 gives δ = 0.05 (JCGM 101:2008, 7.9.2 and
+    # 9.2.3 [from memory]); numerical_tolerance reproduces it, no tolerance is passed in.
+    assert numerical_tolerance(res.standard_uncertainty, 2) == pytest.approx(0.05)
+    check = validate_against(0.0, 2.0 * Z975, res, significant_digits=2)
+    assert check.tolerance == pytest.approx(0.05)
+    # Recomputed d = 3.9199 − 3.8794 = 0.0405 ≤ 0.05 (margin 2 SE of the MC quantile).
+    assert check.d_low == pytest.approx(2 * Z975 - exact, abs=0.02)
+    assert check.d_high == pytest.approx(2 * Z975 - exact, abs=0.02)
+    assert check.validated
+    assert check.statement.startswith("first-order budget validated at δ = 0.05 (d_low = 0.0")
+
+
+def test_additive_model_one_dominant_rectangular_not_validated():
+    # JCGM 101:2008, 9.2.4 [from memory]: u = 10.15, first-order ±19.9, MC ±17.0, not
+    # validated. Recomputed: u = √103 = 10.149; exact 97.5 % quantile by convolution 17.016.
+    exact = _quantile_three_sd1_one_sd10(0.975)
+    assert exact == pytest.approx(17.0, abs=0.05)
+    xs = [_rect("x1", 1.0), _rect("x2", 1.0), _rect("x3", 1.0), _rect("x4", 10.0)]
+    res = run_monte_carlo(_sum, xs, trials=M, seed=11)
+    # SE(u) ≈ u·√((κ−1)/(4M)) ≈ 0.005 (κ ≈ 1.9); SE(quantile) ≈ 0.006 → ~4 SE allowed.
+    assert res.standard_uncertainty == pytest.approx(math.sqrt(103.0), abs=0.02)
+    assert round(res.standard_uncertainty, 2) == pytest.approx(10.15, abs=0.01)
+    assert res.symmetric_interval[1] == pytest.approx(exact, abs=0.03)
+    assert res.symmetric_interval[0] == pytest.approx(-exact, abs=0.03)
+    first_order = Z975 * math.sqrt(103.0)  # 19.89 (JCGM 100:2008 law of propagation)
+    assert first_order == pytest.approx(19.9, abs=0.05)
+    check = validate_against(0.0, first_order, res)
+    assert check.tolerance == pytest.approx(0.5)  # u = 10 (2 digits) → δ = ½ × 10⁰
+    assert check.d_high == pytest.approx(first_order - exact, abs=0.03)  # ≈ 2.9
+    assert not check.validated
+    assert "not validated" in check.statement
+
+
+# ---------------------------------------------------------------- exact analytic cases
+def test_sum_of_two_rectangulars_is_triangular():
+    # Exact: R₁ + R₂ with R ~ U(−a, a) is triangular on [−2a, 2a]; its upper tail
+    # (2a − y)²/(8a²) = 0.025 gives the symmetric 95 % interval ±2a(1 − √0.05).
+    a = 1.5
+    xs = [InputQuantity.rectangular("x1", 0.0, a), InputQuantity.rectangular("x2", 0.0, a)]
+    res = run_monte_carlo(_sum, xs, trials=M, seed=3)
+    half = 2 * a * (1 - math.sqrt(0.05))
+    # SE(quantile) = √(0.025·0.975/M)/f(y) with f(y) = √0.05/(2a) → 7e-4·2a ≈ 0.002.
+    assert res.symmetric_interval[0] == pytest.approx(-half, abs=0.008)
+    assert res.symmetric_interval[1] == pytest.approx(half, abs=0.008)
+    assert res.standard_uncertainty == pytest.approx(a * math.sqrt(2 / 3), rel=3e-3)  # exact
+    # The output is symmetric and unimodal: the shortest interval ≈ the symmetric one.
+    assert res.shortest_interval[0] == pytest.approx(res.symmetric_interval[0], abs=0.02)
+    assert res.shortest_interval[1] == pytest.approx(res.symmetric_interval[1], abs=0.02)
+
+
+def test_square_of_a_normal_moments():
+    # Exact: X ~ N(μ, σ) → E[X²] = μ² + σ², Var[X²] = 4μ²σ² + 2σ⁴.
+    mu, sigma = 1.0, 0.5
+    res = run_monte_carlo(lambda x: x**2, [InputQuantity.normal("x", mu, sigma)], trials=M, seed=5)
+    mean = mu**2 + sigma**2
+    sd = math.sqrt(4 * mu**2 * sigma**2 + 2 * sigma**4)
+    assert res.value == pytest.approx(mean, abs=5 * sd / math.sqrt(M))  # 5 SE of the mean
+    assert res.standard_uncertainty == pytest.approx(sd, rel=5e-3)  # SE(sd)/sd ≈ 1e-3
+
+
+# ---------------------------------------------------------------- distributions
+def _sd_cases():
+    nu = 10.0
+    return [
+        (InputQuantity.normal("x", 3.0, 0.2), 0.2),
+        # JCGM 101:2008, 6.4.9: value + u·t_ν has sd u·√(ν/(ν−2)) (exact).
+        (
+            InputQuantity("x", 3.0, 0.2, distribution="student_t", dof=nu),
+            0.2 * math.sqrt(nu / (nu - 2)),
+        ),
+        (InputQuantity.rectangular("x", 3.0, 0.5), 0.5 / math.sqrt(3)),  # a/√3 exact
+        (InputQuantity.triangular("x", 3.0, 0.5), 0.5 / math.sqrt(6)),  # a/√6 exact
+        (InputQuantity.arcsine("x", 3.0, 0.5), 0.5 / math.sqrt(2)),  # a/√2 exact
+        (InputQuantity.trapezoidal("x", 3.0, 0.5, beta=0.4), 0.5 * math.sqrt(1.16 / 6)),
+        # half_width absent: derived from u (a = u√3, u√6, u√2, u/√((1+β²)/6)).
+        (InputQuantity("x", 3.0, 0.2, distribution="rectangular"), 0.2),
+        (InputQuantity("x", 3.0, 0.2, distribution="triangular"), 0.2),
+        (InputQuantity("x", 3.0, 0.2, distribution="arcsine"), 0.2),
+        (InputQuantity("x", 3.0, 0.2, distribution="trapezoidal", beta=0.7), 0.2),
+    ]
+
+
+@pytest.mark.parametrize(("quantity", "expected_sd"), _sd_cases())
+def test_each_distribution_has_its_stated_standard_deviation(quantity, expected_sd):
+    x = draw_inputs([quantity], None, M, np.random.default_rng(17))[0]
+    # SE(sd)/sd = √((κ − 1)/(4M)) ≤ 1.2e-3 for kurtosis κ ≤ 4 (t₁₀); 5e-3 is ≥ 4 SE.
+    assert np.std(x, ddof=1) == pytest.approx(expected_sd, rel=5e-3)
+    assert np.mean(x) == pytest.approx(3.0, abs=5 * expected_sd / math.sqrt(M))
+    if quantity.distribution not in ("normal", "student_t"):
+        a = quantity.half_width
+        if a is None:  # derived half-width
+            a = {
+                "rectangular": 0.2 * math.sqrt(3),
+                "triangular": 0.2 * math.sqrt(6),
+                "arcsine": 0.2 * math.sqrt(2),
+                "trapezoidal": 0.2 / math.sqrt((1 + 0.7**2) / 6),
+            }[quantity.distribution]
+        assert np.all(np.abs(x - 3.0) <= a * (1 + 1e-12))
+        assert np.max(np.abs(x - 3.0)) > 0.99 * a  # the support is reached
+
+
+def test_zero_uncertainty_input_is_constant():
+    x = draw_inputs(
+        [InputQuantity.normal("a", 2.5, 0.0), InputQuantity.rectangular("b", 1.0, 0.0)],
+        None,
+        1000,
+        np.random.default_rng(0),
+    )
+    assert np.all(x[0] == 2.5) and np.all(x[1] == 1.0)
+
+
+# ---------------------------------------------------------------- numerical tolerance
+@pytest.mark.parametrize(
+    ("u", "n_dig", "delta"),
+    [
+        (0.02857, 2, 0.0005),  # JCGM 101:2008, 7.9.2 [from memory; recomputed]: 29 × 10⁻³
+        (2.0, 2, 0.05),  # 20 × 10⁻¹ (JCGM 101:2008, 9.2.3 [from memory])
+        (10.149, 2, 0.5),  # 10 × 10⁰
+        (2.0, 1, 0.5),  # 2 × 10⁰ (from the 7.9.2 definition)
+        (0.0999, 2, 0.005),  # rounds to 0.10 = 10 × 10⁻² (from the definition)
+        (1234.5, 3, 5.0),  # 123 × 10¹
+    ],
+)
+def test_numerical_tolerance(u, n_dig, delta):
+    assert numerical_tolerance(u, n_dig) == pytest.approx(delta, rel=1e-12)
+
+
+@settings(max_examples=200, deadline=None, derandomize=True)
+@given(
+    u=st.floats(min_value=1e-12, max_value=1e12, allow_nan=False),
+    n_dig=st.integers(min_value=1, max_value=4),
+)
+def test_numerical_tolerance_definition(u, n_dig):
+    # From the definition (JCGM 101:2008, 7.9.2): u ≈ c × 10^ℓ with c an n_dig-digit integer.
+    delta = numerical_tolerance(u, n_dig)
+    scale = 2.0 * delta  # 10^ℓ
+    c = round(u / scale)
+    assert 10 ** (n_dig - 1) <= c <= 10**n_dig - 1 or c == 10**n_dig  # c = 10^n only at a tie
+    assert abs(u - c * scale) <= delta * (1 + 1e-9)
+
+
+def test_numerical_tolerance_rejects_bad_input():
+    with pytest.raises(InputError, match="standard_uncertainty"):
+        numerical_tolerance(-1.0)
+    with pytest.raises(InputError, match="significant_digits"):
+        numerical_tolerance(1.0, 0)
+    assert numerical_tolerance(0.0) == 0.0
+
+
+# ---------------------------------------------------------------- coverage intervals
+def test_coverage_interval_index_rules():
+    # JCGM 101:2008, 7.7 [from memory]: q = ⌊pM + ½⌋, r = (M − q)/2 or ⌊(M − q + 1)/2⌋;
+    # interval [y_(r), y_(r+q)] (1-based order statistics).
+    y = np.arange(1.0, 101.0)  # M = 100: q = 95, r = 3 → [3, 98]
+    assert coverage_interval(y, 0.95) == (3.0, 98.0)
+    y = np.arange(1.0, 102.0)  # M = 101: q = 96, M − q = 5, r = 3 → [3, 99]
+    assert coverage_interval(y, 0.95) == (3.0, 99.0)
+    y = np.arange(1.0, 11.0)  # M = 10, p = 0.5: q = 5, r = 3 → [3, 8]
+    assert coverage_interval(y, 0.5) == (3.0, 8.0)
+    # Shortest: the densest stretch of q + 1 values (here 4 of 6, p·M = 3).
+    y = [0.0, 1.0, 1.1, 1.2, 1.3, 9.0]
+    assert coverage_interval(y, 0.5, "shortest") == (1.0, 1.3)
+
+
+def test_coverage_interval_rejects_bad_input():
+    with pytest.raises(InputError, match="kind"):
+        coverage_interval([1.0, 2.0, 3.0], 0.5, "central")
+    with pytest.raises(InputError, match="sorted"):
+        coverage_interval([3.0, 1.0, 2.0], 0.5)
+    with pytest.raises(InputError, match="p must lie strictly between 0 and 1"):
+        coverage_interval([1.0, 2.0, 3.0], 1.0)
+    with pytest.raises(InputError, match="too few"):
+        coverage_interval([1.0, 2.0], 0.95)
+
+
+def test_shortest_interval_of_a_lognormal_output():
+    # Y = exp(X), X ~ N(0, 0.5): lognormal, right-skewed. Exact shortest 95 % interval:
+    # minimise F⁻¹(α + p) − F⁻¹(α) over α (scipy), recomputed independently.
+    sigma = 0.5
+    res = run_monte_carlo(np.exp, [InputQuantity.normal("x", 0.0, sigma)], trials=M, seed=9)
+    dist = stats.lognorm(s=sigma)
+    opt = optimize.minimize_scalar(
+        lambda al: dist.ppf(al + 0.95) - dist.ppf(al), bounds=(1e-9, 0.05 - 1e-9), method="bounded"
+    )
+    lo, hi = dist.ppf(opt.x), dist.ppf(opt.x + 0.95)
+    sym_w = res.symmetric_interval[1] - res.symmetric_interval[0]
+    short_w = res.shortest_interval[1] - res.shortest_interval[0]
+    assert short_w < sym_w
+    assert sym_w == pytest.approx(dist.ppf(0.975) - dist.ppf(0.025), rel=5e-3)  # exact
+    # The shortest interval's ends are flat functions of α: ~4 SE of a quantile at 10⁶.
+    assert res.shortest_interval[0] == pytest.approx(lo, abs=0.01)
+    assert res.shortest_interval[1] == pytest.approx(hi, abs=0.02)
+    assert short_w == pytest.approx(hi - lo, rel=5e-3)
+
+
+# ---------------------------------------------------------------- determinism
+def _demo_inputs():
+    return [
+        InputQuantity.normal("a", 1.0, 0.1),
+        InputQuantity("b", 2.0, 0.05, distribution="student_t", dof=4),
+        InputQuantity.rectangular("c", 0.5, 0.2),
+        InputQuantity.arcsine("d", 0.0, 0.1),
+    ]
+
+
+def _demo_model(a, b, c, d):
+    return a * b + c**2 - d
+
+
+def test_same_seed_is_bit_identical_and_other_seed_differs():
+    xs = _demo_inputs()
+    r1 = run_monte_carlo(_demo_model, xs, trials=50_000, seed=42)
+    r2 = run_monte_carlo(_demo_model, xs, trials=50_000, seed=42)
+    r3 = run_monte_carlo(_demo_model, xs, trials=50_000, seed=43)
+    assert r1 == r2  # every field, bit for bit
+    assert r1.seed == 42
+    assert r3.value != r1.value and r3.interval != r1.interval
+    d1 = draw_inputs(xs, None, 1000, np.random.default_rng(8))
+    d2 = draw_inputs(xs, None, 1000, np.random.default_rng(8))
+    assert np.array_equal(d1, d2)
+    # With a generator passed in, the seed is not known and is recorded as None.
+    assert run_monte_carlo(_demo_model, xs, trials=1000, rng=np.random.default_rng(1)).seed is None
+
+
+def test_chunk_size_does_not_change_the_result():
+    # Per-input child streams are read sequentially, so chunking preserves the draws.
+    xs = _demo_inputs()
+    corr = np.eye(4)
+    corr[0, 1] = corr[1, 0] = 0.5
+    base = run_monte_carlo(
+        _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=30_000
+    )
+    for chunk in (3, 977, 10_000):
+        other = run_monte_carlo(
+            _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=chunk
+        )
+        assert other == base
+
+
+# ---------------------------------------------------------------- adaptive procedure
+def test_adaptive_run_stops_with_stable_u():
+    # u(y) = √(0.6² + 0.75²) = 0.9605 exactly; at n_dig = 2, δ = 0.005 (96 × 10⁻²).
+    xs = [InputQuantity.normal("a", 5.0, 0.6), _rect("b", 0.75)]
+    rounded = set()
+    for seed in (1, 2, 3):
+        res = run_adaptive(_sum, xs, seed=seed)
+        assert res.converged and res.batches is not None and res.batches >= 2
+        assert res.trials == res.batches * 10_000  # M = max(⌈100/0.05⌉, 10⁴) = 10⁴
+        assert "stabilised" in res.note
+        rounded.add(round(res.standard_uncertainty, 2))
+    assert rounded == {0.96}
+
+
+def test_adaptive_run_reports_non_convergence():
+    xs = [InputQuantity.normal("a", 5.0, 0.6), _rect("b", 0.75)]
+    res = run_adaptive(_sum, xs, seed=1, max_trials=30_000, interval="shortest")
+    assert not res.converged
+    assert res.batches == 3 and res.trials == 30_000
+    assert "max_trials = 30000" in res.note and "not stabilised" in res.note
+    assert res.interval_kind == "shortest" and res.interval == res.shortest_interval
+    with pytest.raises(InputError, match="max_trials"):
+        run_adaptive(_sum, xs, seed=1, max_trials=5000)
+
+
+# ---------------------------------------------------------------- correlation
+def test_correlated_inputs_reproduce_r():
+    r = 0.7
+    xs = [InputQuantity.normal("a", 1.0, 2.0), InputQuantity.normal("b", -1.0, 0.5)]
+    x = draw_inputs(xs, [[1.0, r], [r, 1.0]], M, np.random.default_rng(12))
+    # SE of a sample correlation ≈ (1 − r²)/√N = 5.1e-4 → 4 SE = 0.002.
+    assert np.corrcoef(x)[0, 1] == pytest.approx(r, abs=4 * (1 - r**2) / math.sqrt(M))
+    assert np.std(x[0], ddof=1) == pytest.approx(2.0, rel=4e-3)
+    assert np.std(x[1], ddof=1) == pytest.approx(0.5, rel=4e-3)
+
+
+@pytest.mark.parametrize("r", [1.0, -1.0])
+def test_fully_correlated_inputs_positive_semidefinite(r):
+    xs = [
+        InputQuantity.normal("a", 0.0, 1.0),
+        InputQuantity("b", 0.0, 3.0, distribution="student_t", dof=8),
+        InputQuantity.normal("c", 0.0, 1.0),
+    ]
+    corr = [[1.0, r, 0.0], [r, 1.0, 0.0], [0.0, 0.0, 1.0]]
+    x = draw_inputs(xs, corr, 100_000, np.random.default_rng(6))
+    # Exact: with |r| = 1, b = r·(u_b/u_a)·a for every draw (up to rounding).
+    np.testing.assert_allclose(x[1], r * 3.0 * x[0], atol=1e-12)
+    assert abs(np.corrcoef(x[0], x[2])[0, 1]) < 0.02  # independent: 6 SE at N = 10⁵
+
+
+def test_correlated_non_normal_input_warns_and_invalid_matrices_raise():
+    xs = [_rect("a", 1.0), InputQuantity.normal("b", 0.0, 1.0)]
+    with pytest.warns(CorrelationWarning, match="a \\(rectangular\\)"):
+        draw_inputs(xs, [[1.0, 0.3], [0.3, 1.0]], 10, np.random.default_rng(0))
+    three = [InputQuantity.normal(n, 0.0, 1.0) for n in "abc"]
+    not_psd = [[1.0, 0.9, 0.9], [0.9, 1.0, -0.9], [0.9, -0.9, 1.0]]
+    with pytest.raises(CorrelationError, match="positive semidefinite"):
+        draw_inputs(three, not_psd, 10, np.random.default_rng(0))
+    with pytest.raises(CorrelationError, match="symmetric"):
+        draw_inputs(xs, [[1.0, 0.3], [0.2, 1.0]], 10, np.random.default_rng(0))
+    with pytest.raises(InputError, match="3×3 matrix for 3 inputs, got shape \\(2, 2\\)"):
+        run_monte_carlo(_sum, three, correlation=np.eye(2), trials=100)
+
+
+# ---------------------------------------------------------------- models and checks
+def test_non_finite_model_values_raise_with_count_and_example():
+    xs = [InputQuantity.normal("x", 0.0, 1.0)]
+    # Independent count from the same draws: the first chunk of each child stream.
+    expected = int(np.sum(draw_inputs(xs, None, 20_000, np.random.default_rng(21))[0] > 1.5))
+    with pytest.raises(ModelError, match=f"in {expected} of 20000 trials, e.g. x="):
+        run_monte_carlo(lambda x: np.where(x > 1.5, np.nan, x), xs, trials=20_000, seed=21)
+    with pytest.raises(ModelError, match="non-finite"):
+        run_monte_carlo(lambda x: 1.0 / (x - x), xs, trials=1000, seed=1)  # no numpy warning
+
+
+def test_scalar_model_is_broadcast_and_result_is_frozen():
+    res = run_monte_carlo(lambda x: 3.0, [InputQuantity.normal("x", 0.0, 1.0)], trials=1000, seed=1)
+    assert isinstance(res, MonteCarloResult)
+    assert res.value == 3.0 and res.standard_uncertainty == 0.0
+    assert res.symmetric_interval == (3.0, 3.0) == res.shortest_interval
+    assert sum(res.histogram_counts) == 1000
+    assert len(res.histogram_edges) == len(res.histogram_counts) + 1
+    assert res.batches is None and not res.converged and "fixed number" in res.note
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        res.value = 1.0  # type: ignore[misc]
+    with pytest.raises(ModelError, match="shape"):
+        run_monte_carlo(lambda x: np.ones(3), [InputQuantity.normal("x", 0.0, 1.0)], trials=100)
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "match"),
+    [
+        ({"trials": 0}, "trials must be at least 1, got 0"),
+        ({"coverage_probability": 1.5}, "coverage_probability must lie strictly .* got 1.5"),
+        ({"chunk_size": 0}, "chunk_size must be at least 1, got 0"),
+        ({"histogram_bins": 2.5}, "histogram_bins must be an integer, got 2.5"),
+        ({"trials": 10}, "trials = 10 is too few"),
+        ({"seed": 1, "rng": np.random.default_rng(1)}, "rng or seed"),
+        ({"rng": 5}, "rng must be a numpy.random.Generator, got 5"),
+    ],
+)
+def test_run_monte_carlo_input_checks(kwargs, match):
+    with pytest.raises(InputError, match=match):
+        run_monte_carlo(lambda x: x, [InputQuantity.normal("x", 0.0, 1.0)], **kwargs)
+
+
+def test_adaptive_rejects_unknown_interval_kind():
+    with pytest.raises(InputError, match="interval must be 'symmetric' or 'shortest', got 'wide'"):
+        run_adaptive(lambda x: x, [InputQuantity.normal("x", 0.0, 1.0)], interval="wide")
