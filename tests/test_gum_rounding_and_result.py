@@ -125,3 +125,18 @@ def test_celsius_offset_and_difference():
     r = Budget.from_formula("Tk", "T", qs, "K").evaluate()
     assert r.value == pytest.approx(293.15)
     assert r.standard_uncertainty == pytest.approx(0.01)
+
+
+def test_linearised_budget_matches_full_evaluation():
+    # exact: only uncertainties change, so the linearised budget must equal a full evaluation
+    qs = [InputQuantity.normal("C", 0.1, 1e-4, "mm^2/s^2"), InputQuantity.from_readings("t", [400.0, 400.2, 399.9], "s"),
+          InputQuantity.rectangular("E", 150.0, 20.0, "mm^2*s")]  # fmt: skip
+    b = Budget.from_formula("nu", "C * t - E / t**2", qs, "mm^2/s")
+    lin = b.linearise()
+    for name, u in [("C", 3e-4), ("t", 0.5), ("E", 0.0)]:
+        full = b.with_uncertainty(name, u).evaluate()
+        fast = lin.with_uncertainty(name, u)
+        assert fast.standard_uncertainty == pytest.approx(full.standard_uncertainty, rel=1e-12)
+        assert fast.effective_dof == pytest.approx(full.effective_dof, rel=1e-12)
+        assert fast.expanded_uncertainty == pytest.approx(full.expanded_uncertainty, rel=1e-12)
+    assert lin.uncertainties[0] == 1e-4  # the original is untouched

@@ -98,8 +98,18 @@ def si_conversion(unit: str, field: str = "unit") -> tuple[float, float]:
     >>> si_conversion("degC")
     (1.0, 273.15)
     """
+    if isinstance(unit, str):
+        hit = _KNOWN_CONVERSIONS.get(unit)
+        if hit is not None:
+            return hit
     parse_unit(unit, field)
-    return _conversion(unit.strip())
+    result = _conversion(unit.strip())
+    if len(_KNOWN_CONVERSIONS) < 4096:
+        _KNOWN_CONVERSIONS[unit] = result
+    return result
+
+
+_KNOWN_CONVERSIONS: dict[str, tuple[float, float]] = {}
 
 
 def si_unit_label(unit: str) -> str:
@@ -130,6 +140,7 @@ def convert(value: float, from_unit: str, to_unit: str) -> float:
     return (value * s1 + o1 - o2) / s2
 
 
+@functools.lru_cache(maxsize=1024)
 def sensitivity_unit(output_unit: str, input_unit: str) -> str:
     """Unit of a sensitivity coefficient: output unit per input unit.
 
@@ -191,6 +202,26 @@ def check_model_dimensions(
     UnitError
         Naming the measurand unit and the model's dimension, or the inconsistent operation.
     """
+    if not function_placeholders:
+        _check_cached(expression, tuple(sorted(units.items())), measurand_unit, field)
+        return
+    _check_uncached(expression, units, measurand_unit, function_placeholders, field)
+
+
+@functools.lru_cache(maxsize=256)
+def _check_cached(
+    expression: sp.Expr, units: tuple[tuple[str, str], ...], measurand_unit: str, field: str
+) -> None:
+    _check_uncached(expression, dict(units), measurand_unit, None, field)
+
+
+def _check_uncached(
+    expression: sp.Expr,
+    units: Mapping[str, str],
+    measurand_unit: str,
+    function_placeholders: Mapping[sp.Symbol, tuple[sp.Expr, str, str]] | None,
+    field: str,
+) -> None:
     placeholders = dict(function_placeholders or {})
     values: dict[sp.Symbol, object] = {}
     for s in expression.free_symbols:

@@ -8,6 +8,7 @@ from viscometry.gum.budget import (
     Correlation,
     CrossTerm,
     InputContribution,
+    LinearisedBudget,
 )
 from viscometry.gum.formula import parse_formula
 from viscometry.gum.inputs import (
@@ -37,6 +38,7 @@ __all__ = [
     "CrossTerm",
     "InputContribution",
     "InputQuantity",
+    "LinearisedBudget",
     "MeasurementModel",
     "RoundedResult",
     "combined_variance",

@@ -10,6 +10,7 @@ converts everything to SI floats, applies the law of propagation of uncertainty
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
@@ -23,6 +24,7 @@ from viscometry.gum.inputs import InputQuantity, check_name, coverage_factor_for
 from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
 from viscometry.gum.propagation import (
     combined_variance,
+    coverage_factors,
     higher_order_variance,
     truncate_dof,
     validate_correlation,
@@ -37,6 +39,7 @@ __all__ = [
     "BudgetResult",
     "InputContribution",
     "CrossTerm",
+    "LinearisedBudget",
     "DEFAULT_COVERAGE_PROBABILITY",
 ]
 
@@ -382,6 +385,32 @@ class Budget:
             )
         return _assemble(self, x, u, nu, y, grad, higher_order, rounding)
 
+    def linearise(self) -> LinearisedBudget:
+        """The budget linearised at its estimates, for fast what-ifs on uncertainties.
+
+        Sensitivity coefficients depend on the estimates only, so changing standard
+        uncertainties (an upgrade, a slider) needs no new derivative and no model call:
+        :meth:`LinearisedBudget.with_uncertainty` recomputes u_c, ν_eff, k and U in a few
+        array operations. Changing an *estimate* needs a new :meth:`evaluate`.
+        """
+        x, u, nu, c = self.si_arrays()
+        grad = self.compiled.gradient(*x, *c)
+        in_scales, _c, (out_scale, out_offset) = self._scales
+        scale_in = np.array([s for s, _o in in_scales])
+        sens = grad * scale_in / out_scale
+        own_u = np.array([q.standard_uncertainty for q in self.inputs])
+        y = (float(self.compiled.value(*x, *c)) - out_offset) / out_scale
+        return LinearisedBudget(
+            names=self.input_names,
+            value=y,
+            sensitivities=_frozen(sens),
+            uncertainties=_frozen(own_u),
+            dofs=_frozen(nu),
+            correlation=self._correlation_matrix,
+            coverage_probability=self.coverage_probability,
+            fixed_coverage_factor=self.coverage_factor,
+        )
+
     def sweep(self, name: str, values: Sequence[float] | np.ndarray) -> dict[str, np.ndarray]:
         """Evaluate the budget for many estimates of one input, in one vectorised pass.
 
@@ -418,12 +447,7 @@ class Budget:
         if self.coverage_factor is not None:
             k = np.full_like(v, float(self.coverage_factor))
         else:
-            k = np.array(
-                [
-                    coverage_factor_for(self.coverage_probability, truncate_dof(n))
-                    for n in np.atleast_1d(nu_eff)
-                ]
-            )
+            k = coverage_factors(self.coverage_probability, np.atleast_1d(nu_eff))
         return {
             "value": np.asarray(yv, dtype=float),
             "standard_uncertainty": uc,
@@ -432,6 +456,110 @@ class Budget:
             "expanded_uncertainty": k * uc,
             "contributions": contributions,
         }
+
+
+def _frozen(a: np.ndarray) -> np.ndarray:
+    a = np.array(a, dtype=float)
+    a.setflags(write=False)
+    return a
+
+
+@dataclass(frozen=True)
+class LinearisedBudget:
+    """A first-order budget linearised at fixed estimates (measurand unit; inputs' own units).
+
+    Cheap to copy with new standard uncertainties; the derived quantities are computed on
+    first access. Built by :meth:`Budget.linearise`.
+
+    Examples
+    --------
+    >>> from viscometry.gum import InputQuantity
+    >>> b = Budget.from_formula("y", "a + 2*b", [InputQuantity.normal("a", 1.0, 0.3),
+    ...                                          InputQuantity.normal("b", 1.0, 0.2)])
+    >>> lin = b.linearise()
+    >>> round(lin.standard_uncertainty, 12), round(lin.with_uncertainty("b", 0.0).standard_uncertainty, 12)
+    (0.5, 0.3)
+    """
+
+    names: tuple[str, ...]
+    value: float
+    sensitivities: np.ndarray
+    uncertainties: np.ndarray
+    dofs: np.ndarray
+    correlation: np.ndarray | None
+    coverage_probability: float
+    fixed_coverage_factor: float | None
+
+    def with_uncertainty(self, name: str, standard_uncertainty: float) -> LinearisedBudget:
+        """A copy where input ``name`` has another standard uncertainty (its own unit)."""
+        return self.with_uncertainties({name: standard_uncertainty})
+
+    def with_uncertainties(self, changes: dict[str, float]) -> LinearisedBudget:
+        """A copy with several standard uncertainties changed."""
+        u = self.uncertainties.copy()
+        for name, value in changes.items():
+            try:
+                i = self.names.index(name)
+            except ValueError:
+                raise InputError(
+                    f"no input named {name!r} (inputs: {', '.join(self.names)})"
+                ) from None
+            if not (math.isfinite(value) and value >= 0):
+                raise InputError(f"{name}.standard_uncertainty must be non-negative, got {value!r}")
+            u[i] = value
+        u.setflags(write=False)
+        # A shallow copy without the cached derived values (faster than dataclasses.replace,
+        # which matters for sliders and exhaustive upgrade searches).
+        new = object.__new__(LinearisedBudget)
+        fields = {k: v for k, v in self.__dict__.items() if k in _LINEAR_FIELDS}
+        fields["uncertainties"] = u
+        new.__dict__.update(fields)
+        return new
+
+    @functools.cached_property
+    def contributions(self) -> np.ndarray:
+        """Signed cᵢu(xᵢ) in the measurand unit."""
+        return self.sensitivities * self.uncertainties
+
+    @functools.cached_property
+    def standard_uncertainty(self) -> float:
+        cu = self.contributions
+        var = float(cu @ cu) if self.correlation is None else float(cu @ self.correlation @ cu)
+        return math.sqrt(max(var, 0.0))
+
+    @functools.cached_property
+    def effective_dof(self) -> float:
+        uc = self.standard_uncertainty
+        finite = np.isfinite(self.dofs)
+        if uc == 0 or not finite.any():
+            return math.inf
+        cu = self.contributions[finite]
+        denom = float(np.sum(cu**4 / self.dofs[finite]))
+        return uc**4 / denom if denom > 0 else math.inf
+
+    @functools.cached_property
+    def coverage_factor(self) -> float:
+        if self.fixed_coverage_factor is not None:
+            return float(self.fixed_coverage_factor)
+        return coverage_factor_for(self.coverage_probability, truncate_dof(self.effective_dof))
+
+    @property
+    def expanded_uncertainty(self) -> float:
+        return self.coverage_factor * self.standard_uncertainty
+
+    @property
+    def variance_shares(self) -> np.ndarray:
+        """(cᵢu(xᵢ))²/u_c² per input (correlation cross-terms not included)."""
+        v = self.standard_uncertainty**2
+        return self.contributions**2 / v if v > 0 else np.zeros_like(self.contributions)
+
+
+_LINEAR_FIELDS = frozenset(
+    (
+        "names", "value", "sensitivities", "uncertainties", "dofs", "correlation",
+        "coverage_probability", "fixed_coverage_factor",
+    )
+)  # fmt: skip
 
 
 def _assemble(

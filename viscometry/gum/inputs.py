@@ -23,6 +23,7 @@ constructor               standard uncertainty                       reference
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
@@ -607,8 +608,11 @@ def coverage_factor_for(coverage_probability: float, dof: float = math.inf) -> f
     >>> round(coverage_factor_for(0.99, 16), 2)
     2.92
     """
-    p = _probability(coverage_probability)
-    nu = _dof(dof)
+    return _coverage_factor(_probability(coverage_probability), _dof(dof))
+
+
+@functools.lru_cache(maxsize=4096)
+def _coverage_factor(p: float, nu: float) -> float:
     q = 0.5 * (1.0 + p)
     if math.isinf(nu):
         return float(stats.norm.ppf(q))

@@ -163,6 +163,8 @@ class CompiledModel:
         """∂f/∂xᵢ stacked on the first axis (shape (N,) or (N, ...))."""
         with np.errstate(all="ignore"):
             out = self._gradient(*args)
+        if all(isinstance(a, (float, int, np.floating)) for a in args):
+            return np.array(out, dtype=float)
         shape = np.broadcast_shapes(*(np.shape(a) for a in args)) if args else ()
         return np.stack([np.broadcast_to(np.asarray(g, dtype=float), shape) for g in out])
 

@@ -15,6 +15,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from scipy import stats
 
 from viscometry.errors import CorrelationError, InputError
 from viscometry.gum.inputs import coverage_factor_for
@@ -25,6 +26,7 @@ __all__ = [
     "welch_satterthwaite",
     "truncate_dof",
     "coverage_factor_for",
+    "coverage_factors",
     "higher_order_variance",
     "PSD_TOLERANCE",
 ]
@@ -142,6 +144,24 @@ def truncate_dof(effective_dof: float) -> float:
     if math.isinf(effective_dof):
         return math.inf
     return float(max(1, math.floor(effective_dof + 1e-9)))
+
+
+def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray) -> np.ndarray:
+    """Vectorised :func:`coverage_factor_for` over many ν_eff, each truncated per G.6.4.
+
+    Examples
+    --------
+    >>> [round(float(k), 2) for k in coverage_factors(0.99, np.array([16.7, np.inf]))]
+    [2.92, 2.58]
+    """
+    coverage_factor_for(coverage_probability)  # validates p
+    nu = np.asarray(effective_dofs, dtype=float)
+    if np.any(np.isnan(nu)):
+        raise InputError("effective degrees of freedom contain NaN")
+    finite = np.isfinite(nu)
+    truncated = np.where(finite, np.maximum(1.0, np.floor(np.where(finite, nu, 1.0) + 1e-9)), 1.0)
+    q = 0.5 * (1.0 + coverage_probability)
+    return np.where(finite, stats.t.ppf(q, truncated), stats.norm.ppf(q))
 
 
 def higher_order_variance(
