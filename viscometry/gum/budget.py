@@ -863,4 +863,4 @@ def _percent(p: float) -> str:
 
 
 def _rel(rel: float) -> str:
-    return f"{100 * rel:.2g} %"
+    return f"{100 * rel:#.2g}".rstrip(".") + " %"
