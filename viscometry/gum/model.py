@@ -123,7 +123,7 @@ class MeasurementModel:
 
     def derivative(self, name: str) -> sp.Expr:
         """Simplified symbolic partial derivative ∂f/∂x for input ``name``."""
-        return compile_model(self).derivatives[self.input_names.index(name)]
+        return compile_model(self).simplified_derivative(self.input_names.index(name))
 
     def derivative_latex(self, name: str) -> str:
         """LaTeX of ∂f/∂x, e.g. for workbooks and reports."""
@@ -147,12 +147,21 @@ class CompiledModel:
         syms = [model.symbol(n) for n in model.input_names + model.constant_names]
         self._syms = syms
         expr = model.expression
+        # Unsimplified derivatives are lambdified (with common-subexpression elimination):
+        # simplify() is slow on large models and only matters for display.
         self.derivatives: tuple[sp.Expr, ...] = tuple(
-            _simplify(sp.diff(expr, model.symbol(n))) for n in model.input_names
+            sp.diff(expr, model.symbol(n)) for n in model.input_names
         )
+        self._simplified: dict[int, sp.Expr] = {}
         self._value = sp.lambdify(syms, expr, modules="numpy", cse=True)
         self._gradient = sp.lambdify(syms, list(self.derivatives), modules="numpy", cse=True)
         self._hessian: Callable[..., list] | None = None
+
+    def simplified_derivative(self, index: int) -> sp.Expr:
+        """∂f/∂xᵢ simplified for display (computed on first request, then cached)."""
+        if index not in self._simplified:
+            self._simplified[index] = _simplify(self.derivatives[index])
+        return self._simplified[index]
 
     def value(self, *args: object) -> np.ndarray:
         """f(x; c)."""
