@@ -1,0 +1,182 @@
+"""The ``viscometry`` command line.
+
+Subcommands are discovered as modules of :mod:`viscometry.commands` (sorted by name). Each
+module defines ``NAME`` (the subcommand), ``HELP`` (one line), ``add_arguments(parser)``
+and ``run(args) -> int`` (the exit code). Errors the package raises on purpose
+(:class:`~viscometry.errors.ViscometryError`) are printed as one line,
+``viscometry: error: <message>``, on standard error with exit code 2; ``--debug`` prints the
+traceback as well. Package warnings raised while a command runs are printed as
+``viscometry: warning: <message>`` lines on standard error.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import os
+import pkgutil
+import sys
+import traceback
+import warnings
+from collections.abc import Sequence
+from types import ModuleType
+
+__all__ = ["build_parser", "discover_commands", "main"]
+
+PROG = "viscometry"
+_REQUIRED = ("NAME", "HELP", "add_arguments", "run")
+
+
+def discover_commands() -> tuple[list[ModuleType], list[str]]:
+    """Import the subcommand modules of :mod:`viscometry.commands`, sorted by module name.
+
+    Returns
+    -------
+    modules : list of module
+        Modules that define ``NAME``, ``HELP``, ``add_arguments`` and ``run``.
+    problems : list of str
+        One line per module that could not be imported or lacks the interface (shown in
+        ``--help`` so a broken command does not take the others down).
+    """
+    import viscometry.commands as package
+
+    modules: list[ModuleType] = []
+    problems: list[str] = []
+    for info in sorted(pkgutil.iter_modules(package.__path__), key=lambda i: i.name):
+        if info.name.startswith("_"):
+            continue
+        try:
+            module = importlib.import_module(f"{package.__name__}.{info.name}")
+        except Exception as exc:  # a broken command must not break the others
+            problems.append(f"{info.name}: cannot be imported ({type(exc).__name__}: {exc})")
+            continue
+        missing = [a for a in _REQUIRED if not hasattr(module, a)]
+        if missing:
+            problems.append(f"{info.name}: not a command (missing {', '.join(missing)})")
+            continue
+        modules.append(module)
+    return modules, problems
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser with one subparser per discovered command."""
+    from viscometry import __version__
+
+    modules, problems = discover_commands()
+    epilog = (
+        "Run 'viscometry COMMAND --help' for the options of a command. Exit codes: 0 success, "
+        "1 an audit found a difference, 2 an error (bad file, bad option)."
+    )
+    if problems:
+        epilog += " Unavailable commands: " + "; ".join(problems)
+    parser = argparse.ArgumentParser(
+        prog=PROG,
+        description=(
+            "GUM uncertainty budgets for capillary viscometry: evaluate plain-text budget "
+            "files, audit recorded results, run the demo budgets."
+        ),
+        epilog=epilog,
+    )
+    parser.add_argument("--version", action="version", version=f"{PROG} {__version__}")
+    parser.add_argument(
+        "--debug", action="store_true", help="on an error, print the full traceback as well"
+    )
+    # Also accept --debug after the subcommand, without overriding an earlier one.
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument(
+        "--debug", action="store_true", default=argparse.SUPPRESS,
+        help="on an error, print the full traceback as well",
+    )  # fmt: skip
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", title="commands")
+    for module in modules:
+        p = sub.add_parser(
+            module.NAME, help=module.HELP, description=module.HELP, parents=[common],
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )  # fmt: skip
+        module.add_arguments(p)
+        p.set_defaults(_run=module.run)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; returns the exit code.
+
+    Parameters
+    ----------
+    argv : sequence of str, optional
+        Arguments without the program name (default: ``sys.argv[1:]``).
+
+    Returns
+    -------
+    int
+        0 success; 1 an audit found a difference; 2 an error.
+    """
+    from viscometry.errors import ViscometryError, ViscometryWarning
+
+    parser = build_parser()
+    try:
+        args = parser.parse_args(list(argv) if argv is not None else None)
+    except SystemExit as exc:  # --help, --version, usage errors
+        return exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 2)
+    run = getattr(args, "_run", None)
+    if run is None:
+        parser.print_help(sys.stderr)
+        return 2
+    debug = bool(getattr(args, "debug", False))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ViscometryWarning)
+        try:
+            code = int(run(args))
+        except ViscometryError as exc:
+            if debug:
+                traceback.print_exc()
+            _report(caught, ViscometryWarning)
+            print(f"{PROG}: error: {_one_line(str(exc))}", file=sys.stderr)
+            return 2
+        except KeyboardInterrupt:
+            print(f"{PROG}: interrupted", file=sys.stderr)
+            return 130
+        except BrokenPipeError:  # output piped into e.g. `head`, which closed early
+            _silence_stdout()
+            return 1
+        except Exception as exc:
+            if debug:
+                traceback.print_exc()
+            _report(caught, ViscometryWarning)
+            print(
+                f"{PROG}: error: unexpected {type(exc).__name__}: {_one_line(str(exc))} "
+                f"(run with --debug for the traceback)",
+                file=sys.stderr,
+            )
+            return 2
+    _report(caught, ViscometryWarning)
+    return code
+
+
+def _report(caught: list[warnings.WarningMessage], category: type[Warning]) -> None:
+    seen: set[str] = set()
+    for w in caught:
+        text = _one_line(str(w.message))
+        if text in seen:
+            continue
+        seen.add(text)
+        if issubclass(w.category, category):
+            print(f"{PROG}: warning: {text}", file=sys.stderr)
+        else:  # not ours: hand it back to the normal machinery
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+
+
+def _silence_stdout() -> None:
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):  # pragma: no cover - captured streams
+        pass
+
+
+def _one_line(text: str) -> str:
+    return " ".join(text.split())
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

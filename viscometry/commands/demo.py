@@ -1,0 +1,84 @@
+"""``viscometry demo [FOLDER]``: evaluate and print the bundled demo budgets (invented labs)."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+NAME = "demo"
+HELP = "evaluate every budget file of the examples folder and print the budgets"
+
+#: Printed once after the budgets: the work behind them can hurt people.
+CAUTION = (
+    "Caution: viscometry work involves hot baths, solvents, glassware under suction and, in "
+    "some set-ups, mercury. Follow local codes, your laboratory's own procedures and "
+    "accredited practice; these demo budgets are invented examples, not procedures."
+)
+
+
+def default_folder() -> Path:
+    """The repository's ``examples/`` folder, next to the installed package's source tree."""
+    import viscometry
+
+    return Path(viscometry.__file__).resolve().parents[1] / "examples"
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of ``viscometry demo``."""
+    parser.add_argument(
+        "folder",
+        metavar="FOLDER",
+        nargs="?",
+        default=None,
+        help="folder of budget files, searched recursively for *.toml; TOML files that are "
+        "not budget files are skipped (default: the repository's examples/ folder)",
+    )
+
+
+def run(args: argparse.Namespace) -> int:
+    """Print each budget (header line, table, fingerprint), then a summary and the caution.
+
+    Returns 0, or 2 when a file could not be evaluated (the others are still shown).
+    """
+    from viscometry.errors import InputError, ViscometryError
+    from viscometry.io.budget_file import is_budget_file, load_budget
+
+    folder = Path(args.folder) if args.folder else default_folder()
+    if not folder.is_dir():
+        where = "the given folder" if args.folder else "the repository's examples folder"
+        raise InputError(
+            f"{where} {folder} does not exist; this installation has no demo budgets — "
+            f"give a folder of budget files: viscometry demo FOLDER"
+        )
+    candidates = sorted(folder.rglob("*.toml"))
+    files = [f for f in candidates if is_budget_file(f)]
+    skipped = [f.relative_to(folder).as_posix() for f in candidates if f not in files]
+    if not files:
+        raise InputError(f"no budget files (*.toml) found under {folder}")
+    summary: list[str] = []
+    failed = 0
+    for i, path in enumerate(files):
+        label = path.relative_to(folder).as_posix()
+        if i:
+            print()
+        print(f"=== {label} " + "=" * max(3, 76 - len(label)))
+        try:
+            bf = load_budget(path)
+            result = bf.evaluate()
+        except ViscometryError as exc:
+            failed += 1
+            print(f"error: {' '.join(str(exc).split())}")
+            summary.append(f"{label}: error")
+            continue
+        print(result.to_text())
+        print(f"fingerprint: {bf.fingerprint}")
+        summary.append(f"{label}: {result.statement()}")
+    print()
+    print("=== summary " + "=" * 68)
+    for line in summary:
+        print(line)
+    for label in skipped:
+        print(f'{label}: skipped, not a budget file (no format = "viscometry-budget/1")')
+    print()
+    print(CAUTION)
+    return 2 if failed else 0

@@ -1,0 +1,153 @@
+"""JSON output of evaluated budgets, for scripts and other tools.
+
+:func:`result_to_dict` gives one flat object per result with a fixed set of keys
+(:data:`RESULT_KEYS`, and :data:`INPUT_KEYS` for each budget row). Values of the measurand
+are in the measurand's unit, input values in their own units. :func:`dumps` writes strict
+JSON: an infinite number becomes the string ``"inf"`` (``"-inf"``) and NaN becomes ``null``,
+since JSON has no such numbers.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Mapping
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+if TYPE_CHECKING:  # pragma: no cover
+    from viscometry.gum.budget import BudgetResult
+
+__all__ = ["INPUT_KEYS", "RESULT_KEYS", "dumps", "jsonable", "result_to_dict"]
+
+#: Keys of the JSON object of a result, in order.
+RESULT_KEYS = (
+    "measurand", "unit", "value", "standard_uncertainty", "effective_dof",
+    "coverage_probability", "coverage_factor", "expanded_uncertainty",
+    "relative_expanded_uncertainty", "statement", "method", "inputs", "warnings",
+    "fingerprint", "version",
+)  # fmt: skip
+
+#: Keys of each object in the ``inputs`` list, in order.
+INPUT_KEYS = (
+    "name", "value", "unit", "standard_uncertainty", "distribution", "evaluation", "dof",
+    "sensitivity", "sensitivity_unit", "relative_sensitivity", "contribution", "variance_share",
+)  # fmt: skip
+
+
+def result_to_dict(result: BudgetResult, fingerprint: str | None = None) -> dict[str, Any]:
+    """The JSON object of an evaluated budget.
+
+    Parameters
+    ----------
+    result : BudgetResult
+    fingerprint : str, optional
+        The budget file's fingerprint. When omitted it is computed from the budget's own
+        description (``null`` if the model cannot be written as a formula).
+
+    Returns
+    -------
+    dict
+        Keys :data:`RESULT_KEYS`; ``effective_dof`` and input ``dof`` may be ``math.inf``
+        (written as ``"inf"`` by :func:`dumps`).
+
+    Examples
+    --------
+    >>> from viscometry.gum import Budget, InputQuantity
+    >>> b = Budget.from_formula("y", "2*x", [InputQuantity.normal("x", 1.5, 0.1, "m")], "m")
+    >>> d = result_to_dict(b.evaluate())
+    >>> d["value"], d["effective_dof"], d["inputs"][0]["sensitivity"]
+    (3.0, inf, 2.0)
+    """
+    from viscometry import __version__
+
+    if fingerprint is None:
+        fingerprint = _budget_fingerprint(result)
+    inputs = [
+        {
+            "name": c.name,
+            "value": c.value,
+            "unit": c.unit,
+            "standard_uncertainty": c.standard_uncertainty,
+            "distribution": c.distribution,
+            "evaluation": c.evaluation,
+            "dof": c.dof,
+            "sensitivity": c.sensitivity,
+            "sensitivity_unit": c.sensitivity_unit,
+            "relative_sensitivity": c.relative_sensitivity,
+            "contribution": c.contribution,
+            "variance_share": c.variance_share,
+        }
+        for c in result.contributions
+    ]
+    out = {
+        "measurand": result.measurand,
+        "unit": result.unit,
+        "value": result.value,
+        "standard_uncertainty": result.standard_uncertainty,
+        "effective_dof": result.effective_dof,
+        "coverage_probability": result.coverage_probability,
+        "coverage_factor": result.coverage_factor,
+        "expanded_uncertainty": result.expanded_uncertainty,
+        "relative_expanded_uncertainty": result.relative_expanded_uncertainty,
+        "statement": result.statement(),
+        "method": result.method,
+        "inputs": inputs,
+        "warnings": list(result.warnings),
+        "fingerprint": fingerprint,
+        "version": __version__,
+    }
+    return {k: jsonable(out[k]) for k in RESULT_KEYS}
+
+
+def _budget_fingerprint(result: BudgetResult) -> str | None:
+    from viscometry.errors import ViscometryError
+    from viscometry.io.budget_file import budget_to_document
+    from viscometry.io.fingerprint import fingerprint
+
+    try:
+        return fingerprint(budget_to_document(result.budget, rounding=result.rounding))
+    except ViscometryError:
+        return None
+
+
+def jsonable(obj: Any) -> Any:
+    """Plain Python data for :mod:`json`: numpy scalars and arrays unwrapped, tuples as lists.
+
+    Infinite floats and NaN are kept here; :func:`dumps` writes them.
+    """
+    if isinstance(obj, Mapping):
+        return {str(k): jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [jsonable(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return [jsonable(v) for v in obj.tolist()]
+    if isinstance(obj, np.generic):
+        return obj.item()
+    return obj
+
+
+def _strict(obj: Any) -> Any:
+    if isinstance(obj, float):
+        if math.isnan(obj):
+            return None
+        if math.isinf(obj):
+            return "inf" if obj > 0 else "-inf"
+        return obj
+    if isinstance(obj, dict):
+        return {k: _strict(v) for k, v in obj.items()}
+    if isinstance(obj, list):
+        return [_strict(v) for v in obj]
+    return obj
+
+
+def dumps(obj: Any, *, indent: int | None = 2) -> str:
+    """Strict JSON text: ``inf`` → ``"inf"``, ``-inf`` → ``"-inf"``, NaN → ``null``.
+
+    Examples
+    --------
+    >>> dumps({"dof": float("inf"), "r": float("nan"), "x": 1.5}, indent=None)
+    '{"dof": "inf", "r": null, "x": 1.5}'
+    """
+    return json.dumps(_strict(jsonable(obj)), indent=indent, ensure_ascii=False, allow_nan=False)
