@@ -1,0 +1,292 @@
+"""The :class:`Method` record: a built-in viscometer measurement model with its metadata.
+
+A method is a sympy expression over real symbols named like the model's inputs, plus the SI
+unit and a description of each input, the references and the validity of the equation, and a
+``check`` that turns the input estimates (SI floats) into validity warnings. ``budget`` wraps
+it into a :class:`viscometry.gum.Budget`; ``evaluate`` also appends the validity warnings to
+the result.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import math
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from viscometry.errors import InputError, ModelError
+from viscometry.gum import Budget, BudgetResult, InputQuantity, MeasurementModel
+
+__all__ = ["Method", "Checker", "symbols"]
+
+#: Signature of a method's validity check: (method, SI values) → warning texts.
+Checker = Callable[["Method", Mapping[str, float]], list[str]]
+
+
+def symbols(names: str) -> tuple[sp.Symbol, ...]:
+    """Real sympy symbols for a space-separated list of names (the engine's convention).
+
+    Examples
+    --------
+    >>> r, t = symbols("r t")
+    >>> r.is_real
+    True
+    """
+    return tuple(sp.Symbol(n, real=True) for n in names.split())
+
+
+def _no_check(method: Method, values: Mapping[str, float]) -> list[str]:
+    return []
+
+
+@dataclass(frozen=True)
+class Method:
+    """A built-in measurement model (immutable).
+
+    Parameters
+    ----------
+    name : str
+        Registry name, snake_case (e.g. ``"glass_capillary_kinetic"``).
+    title : str
+        One-line human title.
+    expression : sympy.Expr
+        Right-hand side over ``sympy.Symbol(name, real=True)`` for every input and constant.
+    input_names : tuple of str
+        Input quantities, in display order.
+    input_units : dict
+        Name → SI unit string (pint syntax), e.g. ``"m"``, ``"Pa"``, ``"m^2/s"``, ``"1"``.
+    input_descriptions : dict
+        Name → description (glossary name first).
+    output_name : str
+        Symbol of the measurand.
+    output_unit : str
+        SI unit of the measurand.
+    references : tuple of str
+        Published sources of the equation and its corrections.
+    validity : str
+        Where the equation holds, in words.
+    constant_names : tuple of str
+        Exactly known constants the expression uses (usually none).
+    context_keys : dict
+        Optional extra keys (not inputs) that ``check`` uses if present: name → description
+        with SI unit (e.g. ``"density"`` for a Reynolds-number check).
+    checker : callable
+        ``checker(method, values_si) -> list[str]``; use :meth:`check`.
+    """
+
+    name: str
+    title: str
+    expression: sp.Expr
+    input_names: tuple[str, ...]
+    input_units: Mapping[str, str]
+    input_descriptions: Mapping[str, str]
+    output_name: str
+    output_unit: str
+    references: tuple[str, ...]
+    validity: str
+    constant_names: tuple[str, ...] = ()
+    context_keys: Mapping[str, str] = field(default_factory=dict)
+    checker: Checker = field(default=_no_check, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "input_names", tuple(self.input_names))
+        object.__setattr__(self, "constant_names", tuple(self.constant_names))
+        object.__setattr__(self, "references", tuple(self.references))
+        names = set(self.input_names) | set(self.constant_names)
+        free = {s.name for s in self.expression.free_symbols}
+        if free - names:
+            raise ModelError(
+                f"method {self.name}: expression uses undeclared {sorted(free - names)}"
+            )
+        if names - free:
+            raise ModelError(f"method {self.name}: declared but unused {sorted(names - free)}")
+        for n in self.input_names:
+            if n not in self.input_units or n not in self.input_descriptions:
+                raise ModelError(f"method {self.name}: input {n!r} lacks a unit or a description")
+
+    # ------------------------------------------------------------------ views
+    @property
+    def model(self) -> MeasurementModel:
+        """The :class:`~viscometry.gum.MeasurementModel` of this method."""
+        return MeasurementModel(
+            self.expression, self.input_names, self.constant_names, self.output_name
+        )
+
+    @property
+    def equation(self) -> str:
+        """Plain-text equation, e.g. ``'nu = C*t - E/t**2'``."""
+        return f"{self.output_name} = {sp.sstr(self.expression)}"
+
+    @property
+    def latex(self) -> str:
+        """LaTeX of the equation."""
+        return f"{sp.latex(sp.Symbol(self.output_name))} = {sp.latex(self.expression)}"
+
+    @functools.cached_property
+    def _value_function(self) -> Callable[..., Any]:
+        syms = [sp.Symbol(n, real=True) for n in self.input_names + self.constant_names]
+        return sp.lambdify(syms, self.expression, modules="numpy")
+
+    def _args(self, values_si: Mapping[str, float]) -> list[float]:
+        names = self.input_names + self.constant_names
+        missing = [n for n in names if n not in values_si]
+        if missing:
+            raise InputError(f"method {self.name}: no value for {', '.join(missing)}")
+        return [float(values_si[n]) for n in names]
+
+    def value(self, values_si: Mapping[str, float]) -> float:
+        """The measurand [``output_unit``] at SI input values (and SI constants).
+
+        Cheap: lambdifies the expression only (no derivatives), once per method.
+
+        Raises
+        ------
+        InputError
+            If an input or constant is missing.
+        """
+        args = self._args(values_si)
+        with np.errstate(all="ignore"):
+            return float(self._value_function(*args))
+
+    def relative_sensitivity(self, name: str, values_si: Mapping[str, float]) -> float:
+        """(x/y)·∂y/∂x at SI values for input ``name`` (unsimplified symbolic derivative).
+
+        Raises
+        ------
+        InputError
+            If ``name`` is not an input or a value is missing.
+        """
+        if name not in self.input_names:
+            raise InputError(f"method {self.name} has no input {name!r}")
+        args = self._args(values_si)
+        syms = [sp.Symbol(n, real=True) for n in self.input_names + self.constant_names]
+        x = sp.Symbol(name, real=True)
+        fn = sp.lambdify(syms, sp.diff(self.expression, x) * x / self.expression, modules="numpy")
+        with np.errstate(all="ignore"):
+            return float(fn(*args))
+
+    # ------------------------------------------------------------------ checks
+    def check(self, values_si: Mapping[str, float]) -> list[str]:
+        """Validity warnings (texts with the numbers) at SI input estimates.
+
+        Parameters
+        ----------
+        values_si : mapping
+            Every input's estimate in its SI unit (``input_units``), plus any of the optional
+            ``context_keys``.
+
+        Returns
+        -------
+        list of str
+            Empty when every check passes.
+
+        Raises
+        ------
+        InputError
+            If an input's value is missing or not finite.
+        """
+        missing = [n for n in self.input_names if n not in values_si]
+        if missing:
+            raise InputError(f"method {self.name}: check needs values of {', '.join(missing)}")
+        for n in self.input_names:
+            if not math.isfinite(float(values_si[n])):
+                raise InputError(f"{n} must be finite, got {values_si[n]!r}")
+        return list(self.checker(self, values_si))
+
+    def check_budget(self, budget: Budget, context: Mapping[str, float] | None = None) -> list[str]:
+        """Validity warnings at a budget's input estimates (converted to SI)."""
+        x, _u, _nu, c = budget.si_arrays()
+        values = dict(zip(budget.input_names, (float(v) for v in x), strict=True))
+        values.update(zip((k.name for k in budget.constants), (float(v) for v in c), strict=True))
+        values.update(context or {})
+        return self.check(values)
+
+    # ------------------------------------------------------------------ budgets
+    def budget(
+        self,
+        inputs: Iterable[InputQuantity] | Mapping[str, InputQuantity],
+        unit: str | None = None,
+        **kw: Any,
+    ) -> Budget:
+        """A :class:`~viscometry.gum.Budget` of this method.
+
+        Parameters
+        ----------
+        inputs : iterable or mapping of InputQuantity
+            One per input name (any units of the right dimension).
+        unit : str, optional
+            Unit of the measurand; default ``output_unit``.
+        **kw
+            Passed to :class:`~viscometry.gum.Budget` (``constants``, ``correlations``,
+            ``coverage_probability``, ``coverage_factor``, ``title``).
+
+        Raises
+        ------
+        ModelError
+            If inputs are missing or extra (message names them).
+        """
+        qs = tuple(inputs.values()) if isinstance(inputs, Mapping) else tuple(inputs)
+        given = [q.name for q in qs]
+        missing = [n for n in self.input_names if n not in given]
+        extra = [n for n in given if n not in self.input_names]
+        if missing or extra:
+            raise ModelError(
+                f"method {self.name}"
+                + (f": no input quantity for {', '.join(missing)}" if missing else "")
+                + (f"; not an input of this method: {', '.join(extra)}" if extra else "")
+                + f" (inputs: {', '.join(self.input_names)})"
+            )
+        kw.setdefault("title", self.title)
+        return Budget(self.model, qs, self.output_unit if unit is None else unit, **kw)
+
+    def evaluate(
+        self,
+        inputs: Iterable[InputQuantity] | Mapping[str, InputQuantity],
+        unit: str | None = None,
+        *,
+        context: Mapping[str, float] | None = None,
+        higher_order: bool = False,
+        **kw: Any,
+    ) -> BudgetResult:
+        """Build the budget, evaluate it and append this method's validity warnings."""
+        return self.evaluate_budget(
+            self.budget(inputs, unit, **kw), context=context, higher_order=higher_order
+        )
+
+    def evaluate_budget(
+        self, budget: Budget, *, context: Mapping[str, float] | None = None, **evaluate_kw: Any
+    ) -> BudgetResult:
+        """Evaluate ``budget`` and append this method's validity warnings to the result."""
+        result = budget.evaluate(**evaluate_kw)
+        extra = self.check_budget(budget, context)
+        if not extra:
+            return result
+        return dataclasses.replace(result, warnings=tuple(result.warnings) + tuple(extra))
+
+    # ------------------------------------------------------------------ listing
+    def describe(self) -> dict[str, Any]:
+        """Plain-dict description (for ``viscometry methods --json`` and docs)."""
+        return {
+            "name": self.name,
+            "title": self.title,
+            "equation": self.equation,
+            "latex": self.latex,
+            "output": {"name": self.output_name, "unit": self.output_unit},
+            "inputs": [
+                {
+                    "name": n,
+                    "unit": self.input_units[n],
+                    "description": self.input_descriptions[n],
+                }
+                for n in self.input_names
+            ],
+            "constants": list(self.constant_names),
+            "check_context": dict(self.context_keys),
+            "validity": self.validity,
+            "references": list(self.references),
+        }
