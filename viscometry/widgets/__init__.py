@@ -1,0 +1,12 @@
+"""Jupyter widgets over the engine (edge layer): each is a function returning a handle.
+
+A handle holds the ipywidgets tree (``.widget``, for ``display``) and the controls and
+outputs by name, so the same logic is driven by a person in JupyterLab and by code in
+plain pytest. Widgets only wire controls to library functions; every change builds new,
+immutable budgets and results.
+"""
+
+from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
+from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
+
+__all__ = ["BudgetEditor", "MonteCarloPanel", "budget_editor", "monte_carlo_panel"]
