@@ -18,6 +18,16 @@ from viscometry.gum.inputs import (
     dof_from_relative_uncertainty,
 )
 from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
+from viscometry.gum.montecarlo import (
+    MonteCarloResult,
+    ValidationResult,
+    coverage_interval,
+    draw_inputs,
+    numerical_tolerance,
+    run_adaptive,
+    run_monte_carlo,
+    validate_against,
+)
 from viscometry.gum.propagation import (
     combined_variance,
     higher_order_variance,
@@ -26,6 +36,7 @@ from viscometry.gum.propagation import (
     welch_satterthwaite,
 )
 from viscometry.gum.rounding import RoundedResult, round_result
+from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 
 __all__ = [
     "DEFAULT_COVERAGE_PROBABILITY",
@@ -51,4 +62,14 @@ __all__ = [
     "truncate_dof",
     "validate_correlation",
     "welch_satterthwaite",
+    "BudgetSimulation",
+    "MonteCarloResult",
+    "ValidationResult",
+    "coverage_interval",
+    "draw_inputs",
+    "numerical_tolerance",
+    "run_adaptive",
+    "run_monte_carlo",
+    "simulate_budget",
+    "validate_against",
 ]

@@ -1,0 +1,125 @@
+"""``viscometry simulate FILE``: Monte Carlo propagation (JCGM 101) and validation of a budget."""
+
+from __future__ import annotations
+
+import argparse
+import math
+
+NAME = "simulate"
+HELP = (
+    "propagate the distributions of a budget file by the Monte Carlo method (JCGM 101) and "
+    "validate its first-order result"
+)
+
+
+def _trials(text: str) -> int:
+    """Parse a number of trials written as ``1000000``, ``1_000_000`` or ``1e6``."""
+    cleaned = text.strip().replace("_", "")
+    try:
+        return int(cleaned)
+    except ValueError:
+        pass
+    try:
+        x = float(cleaned)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"trials must be a whole number, got {text!r}") from None
+    if not math.isfinite(x) or x != int(x):
+        raise argparse.ArgumentTypeError(f"trials must be a whole number, got {text!r}")
+    return int(x)
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of ``viscometry simulate``."""
+    parser.add_argument(
+        "file", metavar="FILE", help="budget file (TOML, format viscometry-budget/1)"
+    )
+    how = parser.add_mutually_exclusive_group()
+    how.add_argument(
+        "--trials",
+        type=_trials,
+        default=None,
+        metavar="N",
+        help="fixed number of Monte Carlo trials (default 1e6)",
+    )
+    how.add_argument(
+        "--adaptive",
+        action="store_true",
+        help="add batches of trials until the results are stable to --digits significant "
+        "digits of u (JCGM 101:2008 7.9)",
+    )
+    parser.add_argument(
+        "--digits",
+        type=int,
+        default=2,
+        metavar="N",
+        help="significant digits of u for the numerical tolerance δ of the validation and of "
+        "the adaptive stopping rule (default 2)",
+    )
+    parser.add_argument(
+        "--seed",
+        type=int,
+        default=None,
+        metavar="S",
+        help="seed of the random number generator (same seed, same numbers)",
+    )
+    parser.add_argument(
+        "--interval",
+        choices=("symmetric", "shortest"),
+        default="symmetric",
+        help="coverage interval to report: probabilistically symmetric (default) or shortest; "
+        "the validation always uses the symmetric one",
+    )
+    parser.add_argument(
+        "--higher-order",
+        action="store_true",
+        help="validate the result with the second-order terms of JCGM 100:2008 eq. 10 "
+        "(uncorrelated inputs only) instead of the first-order one",
+    )
+    parser.add_argument(
+        "--json",
+        action="store_true",
+        help="print one JSON object (trials, seed, value, standard_uncertainty, "
+        "coverage_probability, interval, validation, fingerprint, version)",
+    )
+
+
+def run(args: argparse.Namespace) -> int:
+    """Simulate the file's budget; print the summary or JSON on standard output.
+
+    Returns 0 whether or not the first-order result is validated (the verdict is part of
+    the output); errors raise :class:`~viscometry.errors.ViscometryError`.
+    """
+    from viscometry import __version__
+    from viscometry.errors import BudgetFileError, ViscometryError
+    from viscometry.gum.simulation import simulate_budget
+    from viscometry.io.budget_file import load_budget
+    from viscometry.io.json_out import dumps
+
+    bf = load_budget(args.file)
+    try:
+        sim = simulate_budget(
+            bf.budget,
+            trials=args.trials,
+            adaptive=args.adaptive,
+            significant_digits=args.digits,
+            seed=args.seed,
+            interval=args.interval,
+            higher_order_reference=args.higher_order,
+            rounding=bf.rounding,  # type: ignore[arg-type]
+        )
+    except BudgetFileError:
+        raise
+    except ViscometryError as exc:
+        raise type(exc)(f"{bf.source}: {exc}") from exc
+    if args.json:
+        out = sim.to_dict()
+        out["fingerprint"] = bf.fingerprint
+        out["version"] = __version__
+        print(dumps(out))
+    else:
+        for line in sim.summary_lines():
+            print(line)
+        print(f"source: {bf.source}")
+        print(f"fingerprint: {bf.fingerprint}")
+        print(f"version: viscometry {__version__}")
+    return 0

@@ -1,0 +1,392 @@
+"""Monte Carlo simulation of a whole uncertainty budget, validated against its first-order result.
+
+:func:`simulate_budget` takes a :class:`~viscometry.gum.budget.Budget`, propagates the
+distributions of its inputs through the budget's cached, lambdified model with the Monte
+Carlo method of JCGM 101:2008 (:mod:`viscometry.gum.montecarlo`), and compares the result
+with the budget's own first-order (or higher-order) evaluation per JCGM 101:2008, clause 8.
+The answer is an immutable :class:`BudgetSimulation`.
+
+Everything runs in SI inside (the inputs from :meth:`Budget.si_inputs`, the constants from
+:meth:`Budget.si_arrays`); each model value is converted to the measurand's unit as it is
+computed, so every number of the result (estimate, u, intervals, histogram, δ, d_low,
+d_high) is in ``budget.unit``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+import numpy as np
+
+from viscometry import units as _units
+from viscometry.errors import InputError
+from viscometry.gum.budget import Budget, BudgetResult
+from viscometry.gum.montecarlo import (
+    IntervalKind,
+    MonteCarloResult,
+    ValidationResult,
+    run_adaptive,
+    run_monte_carlo,
+    validate_against,
+)
+from viscometry.gum.rounding import Rounding
+
+__all__ = ["BudgetSimulation", "ProgressCallback", "simulate_budget", "DEFAULT_TRIALS"]
+
+#: Number of trials of a fixed-M run when none is given (JCGM 101:2008, 7.2.1 suggests
+#: M = 10⁶ as a value that can often be expected to deliver a 95 % interval correct to one
+#: or two significant decimal digits).
+DEFAULT_TRIALS = 10**6
+
+#: ``progress(trials_done, trials_total)``; see :func:`simulate_budget`.
+ProgressCallback = Callable[[int, int], object]
+
+
+@dataclass(frozen=True)
+class BudgetSimulation:
+    """A budget's Monte Carlo result and its validation of the first-order result (immutable).
+
+    Attributes
+    ----------
+    budget : Budget
+        The simulated budget.
+    first_order : BudgetResult
+        The law-of-propagation result that was validated (``method`` says whether the
+        higher-order terms of JCGM 100:2008 eq. (10) were included).
+    mc : MonteCarloResult
+        The Monte Carlo result, every figure in the measurand's unit ``budget.unit``.
+    validation : ValidationResult
+        δ, d_low, d_high and the verdict (JCGM 101:2008, 8.2), in the measurand's unit.
+    significant_digits : int
+        n_dig used for the numerical tolerance δ (JCGM 101:2008, 7.9.2) [1].
+    """
+
+    budget: Budget = field(repr=False)
+    first_order: BudgetResult = field(repr=False)
+    mc: MonteCarloResult
+    validation: ValidationResult
+    significant_digits: int = 2
+
+    # ------------------------------------------------------------------ accessors
+    @property
+    def unit(self) -> str:
+        """Unit of every measurand figure (the budget's measurand unit)."""
+        return self.budget.unit
+
+    @property
+    def measurand(self) -> str:
+        """Name of the measurand."""
+        return self.budget.measurand
+
+    @property
+    def validated(self) -> bool:
+        """``True`` when the first-order (or higher-order) result is validated."""
+        return self.validation.validated
+
+    @property
+    def first_order_interval(self) -> tuple[float, float]:
+        """The first-order coverage interval (y − U_p, y + U_p) [measurand unit]."""
+        y, big_u = self.first_order.value, self.first_order.expanded_uncertainty
+        return (y - big_u, y + big_u)
+
+    # ------------------------------------------------------------------ words
+    def statement(self) -> str:
+        """The validation outcome in plain words, with the unit.
+
+        Returns
+        -------
+        str
+            e.g. ``"first-order budget validated at δ = 0.005 mPa·s (d_low = 0.001 mPa·s,
+            d_high = 0.001 mPa·s)"``; δ, d_low and d_high are shown to the decimal of δ's
+            leading digit.
+
+        References
+        ----------
+        JCGM 101:2008, 8.2.
+        """
+        v = self.validation
+        unit = _unit_suffix(self.unit)
+        verdict = "validated" if v.validated else "not validated"
+        dec = _decimals(v.tolerance)
+        return (
+            f"{v.reference} budget {verdict} at δ = {v.tolerance:.{dec}f}{unit} "
+            f"(d_low = {v.d_low:.{dec}f}{unit}, d_high = {v.d_high:.{dec}f}{unit})"
+        )
+
+    def summary_lines(self) -> tuple[str, ...]:
+        """The Monte Carlo summary and the validation statement, one line each.
+
+        Estimates and interval end-points are shown to the decimal of δ's leading digit,
+        u(y) to ``significant_digits`` significant digits.
+        """
+        mc, fo = self.mc, self.first_order
+        unit = _unit_suffix(self.unit)
+        dec = _decimals(self.validation.tolerance)
+        name = self.measurand
+        p = _percent(mc.coverage_probability)
+        seed = "no seed (generator passed in)" if mc.seed is None else f"seed {mc.seed}"
+        kind = "probabilistically symmetric" if mc.interval_kind == "symmetric" else "shortest"
+        low, high = mc.interval
+        f_low, f_high = self.first_order_interval
+        return (
+            f"Monte Carlo method (JCGM 101:2008): {mc.trials} trials, {seed}",
+            mc.note
+            if mc.batches is not None
+            else "fixed number of trials; numerical stabilisation not assessed "
+            "(adaptive procedure: JCGM 101:2008, 7.9.4)",
+            f"{name} = {mc.value:.{dec}f}{unit}, "
+            f"u({name}) = {_significant(mc.standard_uncertainty, self.significant_digits)}{unit}",
+            f"{p} % coverage interval ({kind}): [{low:.{dec}f}, {high:.{dec}f}]{unit}",
+            f"{fo.method} (JCGM 100:2008): {name} = {fo.value:.{dec}f}{unit}, "
+            f"u({name}) = {_significant(fo.standard_uncertainty, self.significant_digits)}{unit}, "
+            f"k = {fo.coverage_factor:.3f}, interval [{f_low:.{dec}f}, {f_high:.{dec}f}]{unit}",
+            self.statement(),
+        )
+
+    def to_text(self) -> str:
+        """:meth:`summary_lines` joined by newlines."""
+        return "\n".join(self.summary_lines())
+
+    def to_dict(self) -> dict[str, Any]:
+        """The result as plain data for JSON (measurand unit; no fingerprint or version).
+
+        Returns
+        -------
+        dict
+            Keys ``trials``, ``seed``, ``value``, ``standard_uncertainty``,
+            ``coverage_probability``, ``interval`` {``low``, ``high``, ``kind``} and
+            ``validation`` {``reference``, ``tolerance``, ``d_low``, ``d_high``,
+            ``validated``}.
+        """
+        mc, v = self.mc, self.validation
+        low, high = mc.interval
+        return {
+            "trials": int(mc.trials),
+            "seed": mc.seed,
+            "value": float(mc.value),
+            "standard_uncertainty": float(mc.standard_uncertainty),
+            "coverage_probability": float(mc.coverage_probability),
+            "interval": {"low": float(low), "high": float(high), "kind": mc.interval_kind},
+            "validation": {
+                "reference": v.reference,
+                "tolerance": float(v.tolerance),
+                "d_low": float(v.d_low),
+                "d_high": float(v.d_high),
+                "validated": bool(v.validated),
+            },
+        }
+
+
+# ---------------------------------------------------------------------------- formatting
+def _decimals(tolerance: float) -> int:
+    """Decimals that show the leading digit of δ (0 for δ ≥ 1)."""
+    if not (tolerance > 0 and math.isfinite(tolerance)):
+        return 6
+    return max(0, -math.floor(math.log10(tolerance) + 1e-12))
+
+
+def _significant(x: float, digits: int) -> str:
+    """``x`` rounded to ``digits`` significant digits, in fixed notation where sensible."""
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}"
+    exponent = math.floor(math.log10(abs(x)))
+    if exponent < -5 or exponent > 9:
+        return f"{x:.{digits - 1}e}"
+    decimals = digits - 1 - exponent
+    if decimals >= 0:
+        return f"{x:.{decimals}f}"
+    return f"{round(x, decimals):.0f}"
+
+
+def _unit_suffix(unit: str) -> str:
+    text = _units.format_unit(unit) if unit else ""
+    return f" {text}" if text else ""
+
+
+def _percent(p: float) -> str:
+    return f"{100 * p:.2f}".rstrip("0").rstrip(".")
+
+
+# ---------------------------------------------------------------------------- simulation
+def simulate_budget(
+    budget: Budget,
+    *,
+    trials: int | None = None,
+    adaptive: bool = False,
+    significant_digits: int = 2,
+    seed: int | None = None,
+    rng: np.random.Generator | None = None,
+    interval: IntervalKind = "symmetric",
+    higher_order_reference: bool = False,
+    progress: ProgressCallback | None = None,
+    max_trials: int = 10**7,
+    rounding: Rounding = "nearest",
+) -> BudgetSimulation:
+    """Propagate a budget's input distributions by Monte Carlo and validate its first-order result.
+
+    Parameters
+    ----------
+    budget : Budget
+        The budget; its inputs, constants, validated correlation matrix and coverage
+        probability are used as they are.
+    trials : int, optional
+        Number M of trials of a fixed-M run [1]; default :data:`DEFAULT_TRIALS` (10⁶).
+        Not allowed with ``adaptive=True``.
+    adaptive : bool
+        Use the adaptive procedure of JCGM 101:2008, 7.9.4 instead of a fixed M.
+    significant_digits : int
+        n_dig: significant digits of u(y) for the numerical tolerance δ of the validation
+        and, in an adaptive run, of the stopping rule [1].
+    seed : int, optional
+        Seed of a new :func:`numpy.random.default_rng` (recorded in the result).
+    rng : numpy.random.Generator, optional
+        A generator to draw from instead of ``seed`` (then ``mc.seed`` is ``None``).
+    interval : {"symmetric", "shortest"}
+        The Monte Carlo coverage interval reported as ``mc.interval``. Validation always uses
+        the probabilistically symmetric interval (JCGM 101:2008, 8.2).
+    higher_order_reference : bool
+        Validate the result with the higher-order terms of JCGM 100:2008 eq. (10) instead of
+        the first-order one (uncorrelated inputs only).
+    progress : callable, optional
+        ``progress(trials_done, trials_total)`` is called after every evaluated chunk of
+        trials (for a progress bar in a notebook); it must not print. In an adaptive run
+        ``trials_total`` is ``max_trials``, an upper bound. An exception it raises other
+        than :class:`ArithmeticError`, :class:`ValueError` or :class:`TypeError` (which are
+        reported as a model failure) stops the run.
+    max_trials : int
+        Upper bound on the trials of an adaptive run [1].
+    rounding : {"nearest", "up", "ea-4/02"}
+        Rounding rule of the first-order result's statement.
+
+    Returns
+    -------
+    BudgetSimulation
+        The Monte Carlo result and the validation, in the measurand's unit.
+
+    Raises
+    ------
+    InputError
+        Invalid arguments (``trials`` together with ``adaptive``, too few trials for the
+        coverage probability, both ``seed`` and ``rng``, an unknown ``interval``).
+    ModelError
+        The model gives non-finite values in some trials, or (``higher_order_reference``)
+        the inputs are correlated.
+    CorrelationError
+        The budget's correlation matrix cannot be factorised.
+
+    Warns
+    -----
+    CorrelationWarning
+        When a correlated input is not normal (it is drawn as a normal; JCGM 101:2008,
+        6.4.8).
+
+    Notes
+    -----
+    The model values y_r = f(x_r; c) are computed in SI and converted to the measurand's
+    unit, (y_r − offset)/scale, so the Monte Carlo estimate, u(y) and the coverage
+    intervals are those of the measurand as reported. The first-order result y ± U_p
+    (U_p = k u_c, k from t_p(ν_eff) or the budget's fixed k) is validated when
+    d_low = |y − U_p − y_low| and d_high = |y + U_p − y_high| are both at most δ, the
+    numerical tolerance of the Monte Carlo u(y) at n_dig significant digits. With a fixed
+    coverage factor, U_p stands for the budget's coverage probability as stated.
+
+    Inputs are drawn from their stated distributions (JCGM 101:2008, 6.4): a Type A input
+    with ν degrees of freedom from a scaled and shifted t distribution (6.4.9); the
+    degrees of freedom of a normal Type B input (from the reliability of its uncertainty)
+    do not enter the draws, while they do enter ν_eff and hence k of the first-order
+    result.
+
+    References
+    ----------
+    JCGM 101:2008, 5.9, 7 (M, intervals, adaptive procedure) and 8 (validation);
+    JCGM 100:2008, 5.1.2, G.4.
+
+    Examples
+    --------
+    >>> from viscometry.gum import Budget, InputQuantity
+    >>> b = Budget.from_formula("A", "a * b", [InputQuantity.normal("a", 2.0, 0.002, "m"),
+    ...                                        InputQuantity.normal("b", 3.0, 0.003, "m")],
+    ...                         "cm^2")
+    >>> sim = simulate_budget(b, trials=100_000, seed=1, significant_digits=1)
+    >>> round(sim.mc.value), sim.validated
+    (60000, True)
+    >>> sorted(sim.to_dict())
+    ['coverage_probability', 'interval', 'seed', 'standard_uncertainty', 'trials', 'validation', 'value']
+    """
+    if not isinstance(budget, Budget):
+        raise InputError(f"budget must be a Budget, got {budget!r}")
+    if interval not in ("symmetric", "shortest"):
+        raise InputError(f"interval must be 'symmetric' or 'shortest', got {interval!r}")
+    if adaptive not in (True, False):
+        raise InputError(f"adaptive must be True or False, got {adaptive!r}")
+    if adaptive and trials is not None:
+        raise InputError(
+            f"give trials or adaptive=True, not both; got trials = {trials!r} with adaptive=True"
+        )
+    if progress is not None and not callable(progress):
+        raise InputError(
+            f"progress must be a callable(trials_done, trials_total), got {progress!r}"
+        )
+
+    first_order = budget.evaluate(higher_order=bool(higher_order_reference), rounding=rounding)
+    constants = tuple(float(c) for c in budget.si_arrays()[3])
+    scale, offset = _units.si_conversion(budget.unit, "measurand unit")
+    value = budget.compiled.value
+
+    total = max_trials if adaptive else (DEFAULT_TRIALS if trials is None else trials)
+    done = [0]
+
+    def model(*x: np.ndarray) -> np.ndarray:
+        y = value(*x, *constants)
+        if offset != 0.0:
+            y = y - offset
+        y = y / scale if scale != 1.0 else y
+        if progress is not None:
+            done[0] += int(np.size(x[0]))
+            progress(done[0], total)
+        return y
+
+    inputs = budget.si_inputs()
+    correlation = budget.correlation_matrix
+    p = budget.coverage_probability
+    if adaptive:
+        mc = run_adaptive(
+            model,
+            inputs,
+            correlation=correlation,
+            significant_digits=significant_digits,
+            coverage_probability=p,
+            rng=rng,
+            seed=seed,
+            max_trials=max_trials,
+            interval=interval,
+        )
+    else:
+        mc = run_monte_carlo(
+            model,
+            inputs,
+            correlation=correlation,
+            trials=total,
+            rng=rng,
+            seed=seed,
+            coverage_probability=p,
+        )
+        if interval == "shortest":
+            mc = replace(mc, interval_kind="shortest", interval=mc.shortest_interval)
+    validation = validate_against(
+        first_order.value,
+        first_order.expanded_uncertainty,
+        mc,
+        significant_digits=significant_digits,
+        reference=first_order.method,
+    )
+    return BudgetSimulation(
+        budget=budget,
+        first_order=first_order,
+        mc=mc,
+        validation=validation,
+        significant_digits=int(significant_digits),
+    )
