@@ -177,12 +177,15 @@ def budget_editor(
             style={"description_width": "7em"},
             layout=widgets.Layout(width="18em"),
         )
+        control.add_class(f"viscometry-u-{q.name}")  # stable hook for browser tests
         unit = _units.format_unit(q.unit) if q.unit else ""
         controls[q.name] = control
         rows.append(widgets.HBox([control, widgets.Label(unit)]))
     reset_button = widgets.Button(description="Reset", tooltip="back to the budget as given")
     table_html = widgets.HTML()
+    table_html.add_class("viscometry-budget-table")
     statement_html = widgets.HTML()
+    statement_html.add_class("viscometry-statement")
     chart = widgets.Image(format="png", layout=widgets.Layout(max_width="520px"))
     title = html.escape(budget.title or f"Uncertainty budget of {budget.measurand}")
     header = widgets.HTML(f"<b>{title}</b><br>Standard uncertainties of the inputs (what-if):")
