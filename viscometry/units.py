@@ -229,8 +229,10 @@ def _check_uncached(
             continue
         if s.name not in units:
             raise UnitError(f"{field}: no unit known for {s.name!r}")
+        # numpy magnitudes: a division by zero or log(0) gives inf/nan instead of raising;
+        # only the units matter here.
         values[s] = ureg.Quantity(
-            1.0, parse_unit(units[s.name], f"unit of {s.name}")
+            np.float64(1.0), parse_unit(units[s.name], f"unit of {s.name}")
         ).to_base_units()
     for s, (arg, arg_unit, result_unit) in placeholders.items():
         got = _evaluate_with_units(arg, values, field)
@@ -274,3 +276,5 @@ def _evaluate_with_units(expr: sp.Expr, values: Mapping[sp.Symbol, object], fiel
         pint.errors.OffsetUnitCalculusError
     ) as exc:  # pragma: no cover - base units remove offsets
         raise UnitError(f"{field}: offset units misused: {exc}") from None
+    except (ArithmeticError, TypeError, ValueError) as exc:
+        raise UnitError(f"{field}: its dimensions could not be checked ({exc})") from None
