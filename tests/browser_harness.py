@@ -87,7 +87,9 @@ def jupyterlab(root: Path, scratch: Path, timeout: float = 60.0) -> Iterator[str
         f"--LabApp.app_settings_dir={app_settings}",
     ]  # fmt: skip
     log = open(scratch / "jupyterlab.log", "wb")  # noqa: SIM115 - closed below
-    proc = subprocess.Popen(cmd, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
+    proc = subprocess.Popen(
+        cmd, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True
+    )
     url = f"http://127.0.0.1:{port}"
     try:
         deadline = time.monotonic() + timeout
@@ -150,7 +152,9 @@ CELL_DONE_JS = """
 
 CELL_COUNT_JS = "() => window.jupyterapp.shell.currentWidget.content.widgets.length"
 
-CELL_SOURCE_JS = "(i) => window.jupyterapp.shell.currentWidget.content.widgets[i].model.sharedModel.getSource()"
+CELL_SOURCE_JS = (
+    "(i) => window.jupyterapp.shell.currentWidget.content.widgets[i].model.sharedModel.getSource()"
+)
 
 
 def run_cells_until(page, marker: str, timeout_ms: int = 120_000) -> int:
