@@ -12,7 +12,8 @@ HELP = "evaluate every budget file of the examples folder and print the budgets"
 CAUTION = (
     "Caution: viscometry work involves hot baths, solvents, glassware under suction and, in "
     "some set-ups, mercury. Follow local codes, your laboratory's own procedures and "
-    "accredited practice; these demo budgets are invented examples, not procedures."
+    "accredited practice; the demo budgets are invented examples (apart from the GUM H.1 "
+    "reference file), not procedures."
 )
 
 
