@@ -8,5 +8,13 @@ immutable budgets and results.
 
 from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
 from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
+from viscometry.widgets.upgrade_explorer import UpgradeExplorer, upgrade_explorer
 
-__all__ = ["BudgetEditor", "MonteCarloPanel", "budget_editor", "monte_carlo_panel"]
+__all__ = [
+    "BudgetEditor",
+    "MonteCarloPanel",
+    "UpgradeExplorer",
+    "budget_editor",
+    "monte_carlo_panel",
+    "upgrade_explorer",
+]

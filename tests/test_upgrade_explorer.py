@@ -1,0 +1,247 @@
+"""The upgrade explorer widget, driven from Python (no kernel, no browser).
+
+Setting ``checkbox.value`` or ``target.value`` fires the ipywidgets observers synchronously,
+so the tests tick boxes, set targets and assert on the HTML the user would read.
+
+Check values: a linear model y = a + b + c with unit sensitivities and a fixed k = 2, so
+u_c² = Σ u²(xᵢ) and U = 2 u_c exactly (JCGM 100:2008, eq. 10 and 6.2.1); every expected
+number below is worked out by hand in the comments. The invented Poiseuille example file is
+demo data, not a check value: there the explorer is only compared with
+:func:`viscometry.planning.evaluate_upgrades` run independently.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+import re
+import tomllib
+from pathlib import Path
+
+import pytest
+
+import viscometry.planning as planning
+from viscometry.errors import InputError
+from viscometry.gum import Budget, InputQuantity
+from viscometry.io.budget_file import load_budget
+from viscometry.planning import UpgradeCandidate, candidates_from_mapping, evaluate_upgrades
+from viscometry.widgets.upgrade_explorer import (
+    UpgradeExplorer,
+    cheapest_reaching,
+    format_u,
+    upgrade_explorer,
+)
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLE = ROOT / "examples" / "primary_capillary_poiseuille.toml"
+EXAMPLE_CANDIDATES = ROOT / "examples" / "upgrades" / "pressure_capillary_upgrades.toml"
+
+
+@pytest.fixture(scope="module")
+def linear() -> Budget:
+    # u(a) = 3, u(b) = 4, u(c) = 12: u_c = 13, U = 26 (k = 2 fixed).
+    return Budget.from_formula(
+        "y",
+        "a + b + c",
+        [
+            InputQuantity.normal("a", 1.0, 3.0, "mm"),
+            InputQuantity.normal("b", 1.0, 4.0, "mm"),
+            InputQuantity.normal("c", 1.0, 12.0, "mm"),
+        ],
+        "mm",
+        coverage_factor=2.0,
+    )
+
+
+CANDIDATES = (
+    UpgradeCandidate("better a", 100.0, {"a": 0.0}),  # alone: U = 2√160 = 25.298, per cost 0.00702
+    UpgradeCandidate("better b", 50.0, {"b": 0.0}),  # alone: U = 2√153 = 24.739, per cost 0.02522
+    UpgradeCandidate("better c", 1000.0, {"c": 5.0}),  # alone: U = 2√50 = 14.142, per cost 0.01186
+)
+
+
+def make(linear: Budget, target: float | None = None, **kw: object) -> UpgradeExplorer:
+    kw.setdefault("show_chart", False)
+    return upgrade_explorer(linear, CANDIDATES, target, currency="EUR", **kw)  # type: ignore[arg-type]
+
+
+def text(h: str) -> str:
+    """The HTML as a person reads it: tags removed, entities decoded."""
+    return html.unescape(re.sub(r"<[^>]+>", "", h))
+
+
+def table_rows(h: str) -> list[list[str]]:
+    rows = re.findall(r"<tr[^>]*>(.*?)</tr>", h, flags=re.S)
+    return [[html.unescape(c) for c in re.findall(r"<t[dh]>(.*?)</t[dh]>", r)] for r in rows]
+
+
+def test_opens_at_the_baseline(linear: Budget) -> None:
+    ex = make(linear)
+    o = ex.selected_result()
+    assert ex.selected() == ()
+    assert o.candidates == () and o.cost == 0.0
+    assert o.expanded_uncertainty == pytest.approx(26.0, rel=1e-14)  # 2·√(9 + 16 + 144)
+    s = text(ex.summary_html.value)
+    assert "ticked: (baseline)" in s
+    assert "U before: 26 mm → U after: 26 mm" in s
+    assert "target: none set" in s
+    assert ex.current_target() is None and o.reaches_target is None
+
+
+def test_ticking_updates_the_verdict(linear: Budget) -> None:
+    ex = make(linear, target=15.0)
+    ex.checkboxes["better c"].value = True
+    o = ex.selected_result()
+    assert o.expanded_uncertainty == pytest.approx(2 * math.sqrt(50), rel=1e-14)  # 2·√(9+16+25)
+    s = text(ex.summary_html.value)
+    assert "ticked: better c" in s
+    assert f"U after: {format_u(2 * math.sqrt(50))} mm" in s  # 14.14
+    assert "14.14 mm (-45.6 %)" in s  # (14.142 - 26)/26 = -45.6 %
+    assert "cost: 1,000 EUR" in s
+    assert "target U ≤ 15 mm: reached" in s
+    assert "cheapest set reaching the target: better c, cost 1,000 EUR, U = 14.14 mm" in s
+    ex.checkboxes["better b"].value = True
+    o = ex.selected_result()
+    assert o.candidates == ("better b", "better c")
+    assert o.cost == 1050.0
+    assert o.expanded_uncertainty == pytest.approx(2 * math.sqrt(34), rel=1e-14)  # 2·√(9+25)
+    assert "cost: 1,050 EUR" in text(ex.summary_html.value)
+
+
+def test_changing_the_target_rereads_the_cheapest_set(linear: Budget) -> None:
+    ex = make(linear, target=15.0)
+    ex.checkboxes["better c"].value = True
+    ex.target.value = 12.0
+    s = text(ex.summary_html.value)
+    assert "target U ≤ 12 mm: not reached" in s  # 14.14 > 12
+    # Reaching 12: {b, c} U = 2√34 = 11.66 for 1050, {a, b, c} U = 10 for 1150, {a, c} 12.81 no.
+    assert (
+        "cheapest set reaching the target: better b + better c, cost 1,050 EUR, U = 11.66 mm" in s
+    )
+    assert ex.selected_result().reaches_target is False
+    ex.target.value = 9.0  # below the best set (U = 2·√25 = 10): unreachable
+    s = text(ex.summary_html.value)
+    assert (
+        "none of the evaluated sets reaches it (smallest U = 10 mm, with better a + better b + better c)"
+        in s
+    )
+    assert ex.cheapest() is None
+    ex.target.value = 0.0
+    assert "target: none set" in text(ex.summary_html.value)
+    assert ex.current_plan().target is None
+
+
+def test_table_ranks_candidates_by_reduction_per_cost(linear: Budget) -> None:
+    ex = make(linear, target=12.0)
+    rows = table_rows(ex.table_html.value)
+    header = rows[0]
+    assert header[:4] == ["#", "set", "cost [EUR]", "U [mm]"]
+    assert header[-1] == "reaches target"
+    singles = rows[1:4]
+    # per cost: b (26 - 24.739)/50 = 0.0252 > c (26 - 14.142)/1000 = 0.0119 > a 0.70/100 = 0.0070
+    assert [r[1] for r in singles] == ["better b", "better c", "better a"]
+    plan = evaluate_upgrades(linear, CANDIDATES, target=12.0)
+    for r in singles:
+        o = plan.option([r[1]])
+        assert r[3] == format_u(o.expanded_uncertainty)
+        assert r[6] == f"{o.reduction_per_cost:.3g}"
+        assert r[-1] == ("yes" if o.reaches_target else "no")
+    assert singles[0][6] == "0.0252"  # (26 - 2√153)/50
+    # Sets ranked by U: the first is all three (U = 10), then {b, c} (11.66).
+    ranked = rows[5:]
+    assert ranked[0][1] == "better a + better b + better c" and ranked[0][3] == "10"
+    assert ranked[1][1] == "better b + better c" and ranked[1][3] == "11.66"
+    assert "8 sets evaluated (exhaustive)" in text(ex.table_html.value)
+
+
+def test_table_keeps_the_ticked_set_when_outside_the_top(linear: Budget) -> None:
+    ex = make(linear, target=12.0, top=1, ticked=["better a"])
+    rows = table_rows(ex.table_html.value)
+    ranked = [r for r in rows[5:] if r[0] != "#"]
+    assert [r[1] for r in ranked] == ["better a + better b + better c", "better a",
+                                      "better b + better c"]  # fmt: skip
+    assert "background:#dde8ff'><td>" in ex.table_html.value  # the ticked set is highlighted
+
+
+def test_explorer_agrees_with_the_planner_on_the_example(linear: Budget) -> None:
+    bf = load_budget(EXAMPLE)
+    data = tomllib.loads(EXAMPLE_CANDIDATES.read_text(encoding="utf-8"))
+    cands, _currency = candidates_from_mapping(data, bf.budget)
+    ex = upgrade_explorer(bf.budget, cands, 0.003, currency="EUR", show_chart=False)
+    for target in (0.003, 0.0025, 0.0017, 0.001):
+        ex.target.value = target
+        mine = ex.cheapest()
+        theirs = evaluate_upgrades(bf.budget, cands, target=target).cheapest
+        if theirs is None:
+            assert mine is None
+            assert "none of the evaluated sets reaches it" in text(ex.summary_html.value)
+        else:
+            assert mine is not None and mine.candidates == theirs.candidates
+            assert mine.expanded_uncertainty == theirs.expanded_uncertainty
+            assert f"U = {format_u(theirs.expanded_uncertainty)} mPa·s" in text(
+                ex.summary_html.value
+            )
+    for c in cands:
+        ex.checkboxes[c.name].value = True
+    assert ex.selected_result().expanded_uncertainty == pytest.approx(
+        ex.selected_budget().evaluate().expanded_uncertainty, rel=1e-12
+    )
+
+
+def test_ticks_only_look_results_up(linear: Budget, monkeypatch: pytest.MonkeyPatch) -> None:
+    ex = make(linear, target=12.0)
+
+    def forbidden(*_args: object, **_kw: object) -> None:
+        raise AssertionError("re-evaluated on a tick")
+
+    monkeypatch.setattr(planning, "_evaluate_masks", forbidden)
+    monkeypatch.setattr(Budget, "evaluate", forbidden)
+    ex.checkboxes["better a"].value = True
+    ex.target.value = 20.0
+    assert ex.selected_result().candidates == ("better a",)
+
+
+def test_greedy_plan_evaluates_unvisited_sets_on_demand(linear: Budget) -> None:
+    ex = make(linear, target=12.0, max_exhaustive=1)
+    assert ex.plan.method == "greedy"
+    ex.checkboxes["better a"].value = True
+    ex.checkboxes["better c"].value = True
+    o = ex.selected_result()
+    assert o.expanded_uncertainty == pytest.approx(2 * math.sqrt(41), rel=1e-12)  # 2·√(16+25)
+    assert o.cost == 1100.0 and o.reaches_target is False
+    assert "searched greedily" in text(ex.summary_html.value)
+
+
+def test_chart_is_a_png_that_follows_the_ticks(linear: Budget) -> None:
+    ex = make(linear, target=12.0, show_chart=True)
+    first = bytes(ex.chart.value)
+    assert first[:8] == b"\x89PNG\r\n\x1a\n"
+    ex.checkboxes["better a"].value = True
+    ex.checkboxes["better c"].value = True  # {a, c} is not drawn before: a new bar
+    assert bytes(ex.chart.value) != first
+
+
+def test_names_are_escaped(linear: Budget) -> None:
+    cands = (UpgradeCandidate("<b>x</b> & co", 10.0, {"a": 1.0}),)
+    ex = upgrade_explorer(linear, cands, ticked=["<b>x</b> & co"], show_chart=False)
+    assert "<b>x</b> & co" not in ex.summary_html.value
+    assert "&lt;b&gt;x&lt;/b&gt; &amp; co" in ex.summary_html.value
+    assert "&lt;b&gt;x&lt;/b&gt; &amp; co" in ex.table_html.value
+
+
+def test_bad_arguments(linear: Budget) -> None:
+    with pytest.raises(InputError, match="ticked candidate 'nope'"):
+        make(linear, ticked=["nope"])
+    with pytest.raises(InputError, match="top must be a positive integer, got 0"):
+        make(linear, top=0)
+    with pytest.raises(InputError, match="target expanded uncertainty must be positive"):
+        make(linear, target=-1.0)
+
+
+def test_cheapest_reaching_matches_the_planner(linear: Budget) -> None:
+    for target in (30.0, 25.0, 14.2, 12.0, 10.0, 9.99):
+        plan = evaluate_upgrades(linear, CANDIDATES, target=target)
+        mine = cheapest_reaching(plan.options, target)
+        assert (mine is None) == (plan.cheapest is None)
+        if mine is not None:
+            assert mine.candidates == plan.cheapest.candidates
