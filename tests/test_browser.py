@@ -16,7 +16,6 @@ import shutil
 from pathlib import Path
 
 import pytest
-
 from browser_harness import (
     CHROMIUM_ARGS,
     WAIT_KERNEL_JS,

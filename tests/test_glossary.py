@@ -7,7 +7,9 @@ from pathlib import Path
 import viscometry.properties as properties
 from viscometry.methods import METHODS
 
-GLOSSARY = (Path(__file__).resolve().parents[1] / "docs" / "glossary.md").read_text(encoding="utf-8")
+GLOSSARY = (Path(__file__).resolve().parents[1] / "docs" / "glossary.md").read_text(
+    encoding="utf-8"
+)
 NAMES = set(re.findall(r"^\| `([a-z_0-9]+)`", GLOSSARY, flags=re.M))
 
 

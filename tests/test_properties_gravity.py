@@ -117,9 +117,7 @@ def test_vectorised_and_symmetric() -> None:
 
 
 def test_invalid_inputs() -> None:
-    with pytest.raises(
-        InputError, match="latitude must be between -90 and 90 degrees, got 91.0"
-    ):
+    with pytest.raises(InputError, match="latitude must be between -90 and 90 degrees, got 91.0"):
         normal_gravity(91.0)
     with pytest.raises(InputError, match="height must be finite, got nan"):
         normal_gravity(10.0, float("nan"))

@@ -57,9 +57,7 @@ def standard_gravity() -> float:
     return STANDARD_GRAVITY
 
 
-def normal_gravity(
-    latitude: ArrayLike, height: ArrayLike = 0.0
-) -> float | NDArray[np.float64]:
+def normal_gravity(latitude: ArrayLike, height: ArrayLike = 0.0) -> float | NDArray[np.float64]:
     """Normal gravity of the WGS 84 ellipsoid at a geodetic latitude and ellipsoidal height.
 
     Parameters
