@@ -34,7 +34,7 @@ from typing import TYPE_CHECKING, Literal
 
 from viscometry import units as _units
 from viscometry.errors import InputError
-from viscometry.report_text import format_dof, format_number
+from viscometry.report_text import format_dof, format_number, table_rows
 
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import BudgetResult
@@ -249,33 +249,8 @@ _COLUMNS = (
 
 
 def _rows(result: BudgetResult) -> list[list[str]]:
-    """Display cells of the budget table: one row per input, then correlation terms."""
-    rows = []
-    for c in result.contributions:
-        rows.append(
-            [
-                c.name,
-                f"{c.value:.10g}",
-                _unit(c.unit) or "1",
-                format_number(c.standard_uncertainty, 3),
-                c.distribution,
-                c.evaluation,
-                format_dof(c.dof),
-                format_number(c.sensitivity, 4),
-                c.sensitivity_unit or "1",
-                format_number(c.relative_sensitivity, 4),
-                format_number(c.contribution, 3),
-                f"{100 * c.variance_share:.1f} %",
-            ]
-        )
-    for t in result.cross_terms:
-        root = math.copysign(math.sqrt(abs(t.covariance_term)), t.covariance_term)
-        rows.append(
-            [f"r({t.first}, {t.second}) = {t.coefficient:g}"]
-            + [""] * 9
-            + [format_number(root, 3), f"{100 * t.variance_share:.1f} %"]
-        )
-    return rows
+    """Display cells of the budget table, estimates to 10 significant digits."""
+    return table_rows(result, value_digits=10)
 
 
 def _headers(result: BudgetResult) -> list[str]:

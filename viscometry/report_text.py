@@ -11,7 +11,7 @@ from viscometry import units as _units
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import BudgetResult
 
-__all__ = ["budget_text", "budget_html", "format_number", "format_dof"]
+__all__ = ["HEADERS", "budget_text", "budget_html", "format_number", "format_dof", "table_rows"]
 
 
 def format_number(x: float, digits: int = 4) -> str:
@@ -30,13 +30,15 @@ def format_dof(nu: float) -> str:
     return f"{nu:.1f}".rstrip("0").rstrip(".")
 
 
-def _rows(result: BudgetResult) -> list[list[str]]:
+def table_rows(result: BudgetResult, value_digits: int = 8) -> list[list[str]]:
+    """Display cells of the budget table (see :data:`HEADERS`): one row per input, then one
+    per correlation term. Shared by the text, HTML and exported reports."""
     rows = []
     for c in result.contributions:
         rows.append(
             [
                 c.name,
-                f"{c.value:.8g}",
+                f"{c.value:.{value_digits}g}",
                 _units.format_unit(c.unit) if c.unit else "1",
                 format_number(c.standard_uncertainty, 3),
                 c.distribution,
@@ -52,7 +54,7 @@ def _rows(result: BudgetResult) -> list[list[str]]:
     for t in result.cross_terms:
         rows.append(
             [
-                f"r({t.first},{t.second})={t.coefficient:g}",
+                f"r({t.first}, {t.second}) = {t.coefficient:g}",
                 "",
                 "",
                 "",
@@ -99,7 +101,7 @@ def _summary_lines(result: BudgetResult) -> list[str]:
 
 def budget_text(result: BudgetResult) -> str:
     """A fixed-width text table plus the summary lines and warnings."""
-    rows = _rows(result)
+    rows = table_rows(result)
     widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(HEADERS)]
     out = []
     title = result.budget.title or f"Uncertainty budget of {result.measurand}"
@@ -119,7 +121,9 @@ def budget_html(result: BudgetResult) -> str:
     """An HTML table for Jupyter (``_repr_html_``): budget rows, then the summary."""
     e = html.escape
     head = "".join(f"<th>{e(h)}</th>" for h in HEADERS)
-    body = "".join("<tr>" + "".join(f"<td>{e(v)}</td>" for v in r) + "</tr>" for r in _rows(result))
+    body = "".join(
+        "<tr>" + "".join(f"<td>{e(v)}</td>" for v in r) + "</tr>" for r in table_rows(result)
+    )
     summary = "<br>".join(e(line) for line in _summary_lines(result))
     title = e(result.budget.title or f"Uncertainty budget of {result.measurand}")
     return (
