@@ -26,6 +26,7 @@ __all__ = [
     "si_unit_label",
     "same_dimension",
     "check_model_dimensions",
+    "check_offset_unit",
     "format_unit",
     "convert",
 ]
@@ -170,6 +171,45 @@ def sensitivity_unit(output_unit: str, input_unit: str) -> str:
 
 def _wrap(text: str) -> str:
     return f"({text})" if any(c in text for c in "/·*") else text
+
+
+def check_offset_unit(unit: str, field: str = "unit") -> None:
+    """Refuse a product of an offset temperature unit with other units, such as ``degC*m``.
+
+    A lone ``degC`` is a Celsius temperature (converted with its 273.15 K offset). Inside a
+    compound unit pint reads ``degC`` as a temperature *difference*; that is what a rate
+    (``degC/min``) or a coefficient (``1/degC``) means, but a product (``degC*m``,
+    ``degC^2``) is ambiguous — an absolute temperature times a length, or a difference? —
+    so it is refused; write ``K*m`` or ``delta_degC*m``.
+
+    Raises
+    ------
+    UnitError
+        Naming the field and the unit.
+
+    Examples
+    --------
+    >>> check_offset_unit("degC/min")
+    >>> check_offset_unit("degC*m", "[inputs.x] unit")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.UnitError: [inputs.x] unit 'degC*m' multiplies the offset temperature unit degC ...
+    """
+    if not isinstance(unit, str) or "delta_" in unit:
+        return
+    items = dict(parse_unit(unit, field)._units)
+    deltas = {n: e for n, e in items.items() if n.startswith("delta_")}
+    for name, exponent in deltas.items():
+        others_up = any(e > 0 for n, e in items.items() if n != name)
+        if exponent > 0 and (exponent != 1 or others_up):
+            scale = name.removeprefix("delta_").replace("degree_", "deg").replace("Celsius", "C")
+            scale = scale.replace("Fahrenheit", "F")
+            raise UnitError(
+                f"{field} {unit!r} multiplies the offset temperature unit {scale} with other "
+                f"units, which is ambiguous (an absolute temperature or a difference?); write "
+                f"K for an absolute temperature or delta_{scale} for a difference, e.g. "
+                f"{unit.replace(scale, 'K')!r}"
+            )
 
 
 def check_model_dimensions(

@@ -212,6 +212,11 @@ class Budget:
         if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0.0 < p < 1.0:
             raise InputError(f"coverage_probability must lie strictly between 0 and 1, got {p!r}")
         # Units: conversion factors to SI, once.
+        for q in self.inputs:
+            _units.check_offset_unit(q.unit, f"{q.name}.unit")
+        for c in self.constants:
+            _units.check_offset_unit(c.unit, f"constant {c.name}.unit")
+        _units.check_offset_unit(self.unit, "measurand unit")
         in_scales = tuple(_units.si_conversion(q.unit, f"{q.name}.unit") for q in self.inputs)
         c_scales = tuple(
             _units.si_conversion(c.unit, f"constant {c.name}.unit") for c in self.constants
@@ -375,15 +380,27 @@ class Budget:
         y = float(comp.value(*args))
         if not math.isfinite(y):
             raise ModelError(
-                f"the model gives {y!r} at the input estimates; check the estimates and the formula"
+                f"the model gives {y!r} at the input estimates ({self._estimates()}); "
+                "check the estimates and the formula"
             )
         grad = comp.gradient(*args)
         bad = [n for n, g in zip(self.input_names, grad, strict=True) if not math.isfinite(g)]
         if bad:
             raise ModelError(
-                f"sensitivity coefficient of {', '.join(bad)} is not finite at the estimates"
+                f"sensitivity coefficient of {', '.join(bad)} is not finite at the estimates "
+                f"({self._estimates()})"
             )
         return _assemble(self, x, u, nu, y, grad, higher_order, rounding)
+
+    def _estimates(self, limit: int = 6) -> str:
+        """``a = 1.0 mm, b = 2.0 mm, ...`` for error messages."""
+        parts = [
+            f"{q.name} = {q.value!r} {'' if q.unit in ('', '1') else q.unit}".rstrip()
+            for q in self.inputs[:limit]
+        ]
+        if len(self.inputs) > limit:
+            parts.append("...")
+        return ", ".join(parts)
 
     def linearise(self) -> LinearisedBudget:
         """The budget linearised at its estimates, for fast what-ifs on uncertainties.
@@ -456,6 +473,11 @@ class Budget:
             "expanded_uncertainty": k * uc,
             "contributions": contributions,
         }
+
+
+def _largest(budget: Budget, contributions_si: np.ndarray) -> str:
+    i = int(np.nanargmax(np.abs(np.where(np.isnan(contributions_si), np.inf, contributions_si))))
+    return f"{budget.inputs[i].name} gives {float(contributions_si[i]):.3g} in SI units"
 
 
 def _frozen(a: np.ndarray) -> np.ndarray:
@@ -575,8 +597,15 @@ def _assemble(
     in_scales, _c, (out_scale, out_offset) = budget._scales
     warnings: list[str] = []
     r = budget._correlation_matrix
-    contrib_si = grad_si * u
-    var = float(combined_variance(grad_si, u, r))
+    with np.errstate(over="ignore", invalid="ignore"):
+        contrib_si = grad_si * u
+        var = float(combined_variance(grad_si, u, r))
+    if not math.isfinite(var):
+        raise ModelError(
+            "the combined variance overflows (sensitivity coefficients times standard "
+            f"uncertainties are too large to square: {_largest(budget, contrib_si)}); "
+            "express the inputs in units closer to their size"
+        )
     method: Literal["first-order", "higher-order"] = "first-order"
     first_order_uc = math.sqrt(max(var, 0.0))
     if higher_order:
@@ -647,6 +676,11 @@ def _assemble(
         warnings.append("combined standard uncertainty is zero: every input is exactly known")
     y = (y_si - out_offset) / out_scale
     uc = uc_si / out_scale
+    if not (math.isfinite(y) and math.isfinite(uc) and math.isfinite(k * uc)):
+        raise ModelError(
+            f"the result y = {y_si!r} (SI), u_c = {uc_si!r} (SI) cannot be expressed in the "
+            f"measurand unit {budget.unit!r} (overflow); choose a unit closer to its size"
+        )
     rows = []
     for q, (s, _o), g, cu, sh, xi in zip(
         budget.inputs, in_scales, grad_si, contrib_si, shares, x, strict=True

@@ -34,6 +34,7 @@ __all__ = [
     "MAX_DEPTH",
     "MAX_NODES",
     "MAX_EXPONENT",
+    "MAX_NUMBER_BITS",
 ]
 
 #: Longest formula accepted, in characters.
@@ -44,6 +45,10 @@ MAX_DEPTH = 40
 MAX_NODES = 400
 #: Largest absolute value of a numeric exponent (``x**1000`` is refused).
 MAX_EXPONENT = 64
+#: Largest size, in bits, of an exact integer or rational built from literals (about 10**300;
+#: beyond the range of a float anyway). Bounds the time and memory a formula such as
+#: ``((10**30)**8)**8`` could take.
+MAX_NUMBER_BITS = 1000
 
 BASE_FUNCTIONS: dict[str, Callable[..., sp.Expr]] = {
     "sqrt": sp.sqrt,
@@ -201,7 +206,7 @@ class _Builder:
             right = self.build(node.right, d)
             if isinstance(node.op, ast.Pow):
                 self.check_power(left, right, node)
-            return op(left, right)
+            return self.check_number(op(left, right), node)
         if isinstance(node, ast.UnaryOp):
             if isinstance(node.op, ast.USub):
                 return -self.build(node.operand, d)
@@ -262,9 +267,30 @@ class _Builder:
         if isinstance(node.args[0], ast.Starred):
             raise self.fail(f"starred arguments in {_describe(node)} are not allowed")
         arg = self.build(node.args[0], depth)
-        return self.funcs[fname](arg)
+        return self.check_number(self.funcs[fname](arg), node)
+
+    def check_number(self, value: sp.Expr, node: ast.AST) -> sp.Expr:
+        """Refuse parts that are undefined, infinite, imaginary or absurdly large numbers."""
+        if value.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
+            raise self.fail(
+                f"{_describe(node)} is undefined or infinite (a division by zero or the "
+                f"logarithm of zero?)"
+            )
+        if value.has(sp.I) or (value.is_number and value.is_extended_real is False):
+            raise self.fail(f"{_describe(node)} is not a real number")
+        if isinstance(value, sp.Rational) and _bits(value) > MAX_NUMBER_BITS:
+            raise self.fail(
+                f"the number {_describe(node)} is too large (about 10**{_decades(value)})"
+            )
+        return value
 
     def check_power(self, base: sp.Expr, exponent: sp.Expr, node: ast.AST) -> None:
+        if isinstance(base, sp.Rational) and isinstance(exponent, sp.Rational):
+            # Size of the exact result, estimated before computing it.
+            if _bits(base) * abs(float(exponent)) > MAX_NUMBER_BITS:
+                raise self.fail(
+                    f"power {_describe(node)} is too large (more than {MAX_NUMBER_BITS} bits)"
+                )
         if exponent.is_number:
             try:
                 mag = abs(float(exponent))
@@ -279,6 +305,14 @@ class _Builder:
             try:
                 mag = abs(float(base))
             except (TypeError, ValueError, OverflowError):
-                return
+                raise self.fail(f"power {_describe(node)} is too large") from None
             if mag > 1e6 and abs(float(exponent)) > 8:
                 raise self.fail(f"power {_describe(node)} is too large")
+
+
+def _bits(value: sp.Rational) -> int:
+    return max(abs(int(value.p)).bit_length(), abs(int(value.q)).bit_length())
+
+
+def _decades(value: sp.Rational) -> int:
+    return int(_bits(value) * math.log10(2))

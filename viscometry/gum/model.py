@@ -166,12 +166,18 @@ class CompiledModel:
     def value(self, *args: object) -> np.ndarray:
         """f(x; c)."""
         with np.errstate(all="ignore"):
-            return np.asarray(self._value(*args), dtype=float)
+            try:
+                return np.asarray(self._value(*args), dtype=float)
+            except (ArithmeticError, TypeError) as exc:  # scalar 0.0**-1, complex values
+                raise _not_evaluable(self.model, exc) from None
 
     def gradient(self, *args: object) -> np.ndarray:
         """∂f/∂xᵢ stacked on the first axis (shape (N,) or (N, ...))."""
         with np.errstate(all="ignore"):
-            out = self._gradient(*args)
+            try:
+                out = self._gradient(*args)
+            except (ArithmeticError, TypeError) as exc:
+                raise _not_evaluable(self.model, exc, "its derivatives") from None
         if all(isinstance(a, (float, int, np.floating)) for a in args):
             return np.array(out, dtype=float)
         shape = np.broadcast_shapes(*(np.shape(a) for a in args)) if args else ()
@@ -195,8 +201,19 @@ class CompiledModel:
             third = [[sp.diff(second[j][j], sym[i]) for j in range(n)] for i in range(n)]
             self._hessian = sp.lambdify(self._syms, [second, third], modules="numpy", cse=True)
         with np.errstate(all="ignore"):
-            h, t = self._hessian(*args)
+            try:
+                h, t = self._hessian(*args)
+            except (ArithmeticError, TypeError) as exc:
+                raise _not_evaluable(self.model, exc, "its second derivatives") from None
         return np.asarray(h, dtype=float), np.asarray(t, dtype=float)
+
+
+def _not_evaluable(model: MeasurementModel, exc: BaseException, what: str = "it") -> ModelError:
+    return ModelError(
+        f"the model {model.output_name} = {(model.formula or 'f(...)')[:80]} cannot be evaluated: "
+        f"{what} raised {type(exc).__name__} ({exc}) at the given values; a division by zero "
+        f"or a power of zero at the estimates?"
+    )
 
 
 def _simplify(expr: sp.Expr) -> sp.Expr:

@@ -59,24 +59,26 @@ def validate_correlation(matrix: np.ndarray, names: Sequence[str] | None = None)
     label = list(names) if names is not None else [f"x{i + 1}" for i in range(n)]
     if not np.all(np.isfinite(r)):
         i, j = np.argwhere(~np.isfinite(r))[0]
-        raise CorrelationError(f"correlation r({label[i]}, {label[j]}) is not finite: {r[i, j]!r}")
+        raise CorrelationError(
+            f"correlation r({label[i]}, {label[j]}) is not finite: {float(r[i, j])!r}"
+        )
     for i in range(n):
         if r[i, i] != 1.0:
             raise CorrelationError(
-                f"correlation r({label[i]}, {label[i]}) must be 1, got {r[i, i]!r}"
+                f"correlation r({label[i]}, {label[i]}) must be 1, got {float(r[i, i])!r}"
             )
     bad = np.argwhere(np.abs(r) > 1.0)
     if bad.size:
         i, j = bad[0]
         raise CorrelationError(
-            f"correlation r({label[i]}, {label[j]}) = {r[i, j]!r} lies outside [-1, 1]"
+            f"correlation r({label[i]}, {label[j]}) = {float(r[i, j])!r} lies outside [-1, 1]"
         )
     asym = np.argwhere(np.abs(r - r.T) > 1e-12)
     if asym.size:
         i, j = asym[0]
         raise CorrelationError(
-            f"correlation matrix is not symmetric: r({label[i]}, {label[j]}) = {r[i, j]!r} but "
-            f"r({label[j]}, {label[i]}) = {r[j, i]!r}"
+            f"correlation matrix is not symmetric: r({label[i]}, {label[j]}) = {float(r[i, j])!r} but "
+            f"r({label[j]}, {label[i]}) = {float(r[j, i])!r}"
         )
     if n:
         low = float(np.linalg.eigvalsh(r).min())

@@ -47,6 +47,7 @@ from viscometry.gum.inputs import DISTRIBUTIONS, InputQuantity, dof_from_relativ
 from viscometry.gum.model import MeasurementModel
 from viscometry.io.atomic import atomic_write_text
 from viscometry.io.fingerprint import fingerprint as _fingerprint
+from viscometry.units import check_offset_unit
 
 __all__ = [
     "FORMAT",
@@ -400,6 +401,11 @@ def _from_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
             checks = list(method_obj.check(values))
         except ViscometryError as exc:
             raise BudgetFileError(f"{src}: [measurand] method {method_name!r}: {exc}") from exc
+        except (ArithmeticError, ValueError, TypeError) as exc:  # a check that cannot cope
+            raise BudgetFileError(
+                f"{src}: [measurand] method {method_name!r}: the validity checks failed at the "
+                f"estimates ({type(exc).__name__}: {exc})"
+            ) from exc
         for w in checks:
             warnings.warn(f"{src}: {w}", ValidityWarning, stacklevel=3)
             load_warnings.append(str(w))
@@ -503,6 +509,7 @@ class _Reader:
         u = self.text(t, "unit", where)
         try:
             _units.parse_unit(u, f"{where} unit")
+            check_offset_unit(u, f"{where} unit")
         except ViscometryError as exc:
             raise BudgetFileError(f"{self.src}: {exc}") from None
         return u
@@ -689,7 +696,11 @@ def _recorded(r: _Reader, doc: Mapping[str, Any], unit: str) -> Recorded | None:
     if big_u < 0:
         raise r.fail(where, f"expanded_uncertainty must not be negative, got {big_u!r}")
     k = r.number(t, "coverage_factor", where, default=None)
+    if k is not None and not k > 0:
+        raise r.fail(where, f"coverage_factor must be positive, got {k!r}")
     p = r.number(t, "coverage_probability", where, default=None)
+    if p is not None and not 0.0 < p < 1.0:
+        raise r.fail(where, f"coverage_probability must lie strictly between 0 and 1, got {p!r}")
     rec_unit = None
     if "unit" in t:
         rec_unit = r.unit(t, where)
@@ -770,6 +781,15 @@ def _method_model(
                 f"unit {given[n].unit!r} does not fit method {name!r}, which expects a "
                 f"quantity measured in units like {want!r}",
             )
+    estimate_problem = getattr(method, "estimate_problem", None)
+    if estimate_problem is not None:
+        for n in method.input_names:
+            q = given[n]
+            scale, offset = _units.si_conversion(q.unit)
+            problem = estimate_problem(n, q.value * scale + offset, q.unit)
+            if problem:
+                what = "value (the mean of the readings)" if q.readings else "value"
+                raise r.fail(f"[inputs.{n}]", f"{what} {problem}, got {q.value!r} {q.unit}")
     return _wrap(
         r.src,
         lambda: MeasurementModel(

@@ -77,6 +77,11 @@ class Method:
         with SI unit (e.g. ``"density"`` for a Reynolds-number check).
     checker : callable
         ``checker(method, values_si) -> list[str]``; use :meth:`check`.
+    positive_inputs : tuple of str
+        Inputs whose estimate must be positive for the equation to make sense (radius, flow
+        time, volume, length, density...). :meth:`budget`, :meth:`check` and budget files
+        refuse a zero, negative or non-finite estimate of these with an error naming the
+        input and the value.
     """
 
     name: str
@@ -92,11 +97,16 @@ class Method:
     constant_names: tuple[str, ...] = ()
     context_keys: Mapping[str, str] = field(default_factory=dict)
     checker: Checker = field(default=_no_check, repr=False, compare=False)
+    positive_inputs: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "input_names", tuple(self.input_names))
         object.__setattr__(self, "constant_names", tuple(self.constant_names))
         object.__setattr__(self, "references", tuple(self.references))
+        object.__setattr__(self, "positive_inputs", tuple(self.positive_inputs))
+        stray = [n for n in self.positive_inputs if n not in self.input_names]
+        if stray:
+            raise ModelError(f"method {self.name}: positive_inputs names non-inputs {stray}")
         names = set(self.input_names) | set(self.constant_names)
         free = {s.name for s in self.expression.free_symbols}
         if free - names:
@@ -171,6 +181,41 @@ class Method:
             return float(fn(*args))
 
     # ------------------------------------------------------------------ checks
+    def estimate_problem(self, name: str, value_si: float, unit_given: str = "") -> str | None:
+        """Why an input's estimate cannot be used by this method, or None.
+
+        Parameters
+        ----------
+        name : str
+            Input name.
+        value_si : float
+            Its estimate in the SI unit of ``input_units`` (an offset unit already converted).
+        unit_given : str
+            The unit the estimate was given in, if any: an offset temperature unit (degC, degF)
+            is refused for a temperature input of the method, which is always a difference
+            here (an offset would add 273.15 K to it).
+
+        Returns
+        -------
+        str or None
+            A message without the input's name and value, e.g. ``"must be positive for
+            method 'pressure_capillary' (capillary_radius)"``.
+        """
+        from viscometry import units as _units
+
+        want = self.input_units.get(name, "")
+        if unit_given and _units.si_conversion(unit_given)[1] != 0.0:
+            if _units.si_conversion(want)[1] == 0.0:
+                return (
+                    f"unit {unit_given!r} is a temperature scale with an offset, but method "
+                    f"{self.name!r} takes {name} as a temperature difference (units like "
+                    f'{want!r}); write unit = "K" or "delta_degC"'
+                )
+        if name in self.positive_inputs and not (math.isfinite(value_si) and value_si > 0):
+            label = self.input_descriptions.get(name, "").split(":")[0]
+            return f"must be positive for method {self.name!r}" + (f" ({label})" if label else "")
+        return None
+
     def check(self, values_si: Mapping[str, float]) -> list[str]:
         """Validity warnings (texts with the numbers) at SI input estimates.
 
@@ -196,6 +241,10 @@ class Method:
         for n in self.input_names:
             if not math.isfinite(float(values_si[n])):
                 raise InputError(f"{n} must be finite, got {values_si[n]!r}")
+            problem = self.estimate_problem(n, float(values_si[n]))
+            if problem:
+                unit = self.input_units.get(n, "")
+                raise InputError(f"{n} {problem}, got {values_si[n]!r} {unit}".rstrip())
         return list(self.checker(self, values_si))
 
     def check_budget(self, budget: Budget, context: Mapping[str, float] | None = None) -> list[str]:
@@ -229,6 +278,9 @@ class Method:
         ------
         ModelError
             If inputs are missing or extra (message names them).
+        InputError
+            If an estimate in :attr:`positive_inputs` is not positive, or a temperature
+            difference is given in an offset unit (degC).
         """
         qs = tuple(inputs.values()) if isinstance(inputs, Mapping) else tuple(inputs)
         given = [q.name for q in qs]
@@ -242,7 +294,13 @@ class Method:
                 + f" (inputs: {', '.join(self.input_names)})"
             )
         kw.setdefault("title", self.title)
-        return Budget(self.model, qs, self.output_unit if unit is None else unit, **kw)
+        budget = Budget(self.model, qs, self.output_unit if unit is None else unit, **kw)
+        x = budget.si_arrays()[0]
+        for q, value_si in zip(budget.inputs, x, strict=True):
+            problem = self.estimate_problem(q.name, float(value_si), q.unit)
+            if problem:
+                raise InputError(f"{q.name} {problem}, got {q.value!r} {q.unit}".rstrip())
+        return budget
 
     def evaluate(
         self,

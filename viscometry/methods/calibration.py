@@ -94,6 +94,7 @@ _E_DESCRIPTION = "kinetic_energy_constant: E of ν = C t − E/t² for the visco
 
 CONSTANT_FROM_REFERENCE_LIQUID = Method(
     name="constant_from_reference_liquid",
+    positive_inputs=("nu_ref", "t"),
     title="Viscometer constant from a reference liquid, C = (ν_ref + E/t²)/t",
     expression=(nu_ref + E / t**2) / t,
     input_names=("nu_ref", "t", "E"),
@@ -117,6 +118,7 @@ CONSTANT_FROM_REFERENCE_LIQUID = Method(
 
 CONSTANT_FROM_TWO_REFERENCE_LIQUIDS = Method(
     name="constant_from_two_reference_liquids",
+    positive_inputs=("nu1", "t1", "nu2", "t2"),
     title="Viscometer constant as the mean from two reference liquids",
     expression=((nu1 + E / t1**2) / t1 + (nu2 + E / t2**2) / t2) / 2,
     input_names=("nu1", "t1", "nu2", "t2", "E"),
@@ -139,6 +141,7 @@ CONSTANT_FROM_TWO_REFERENCE_LIQUIDS = Method(
 
 CONSTANT_BY_COMPARISON = Method(
     name="constant_by_comparison",
+    positive_inputs=("C_ref", "t_ref", "t_x"),
     title="Viscometer constant by comparison with a reference viscometer, C_x = C_ref t_ref/t_x",
     expression=C_ref * t_ref / t_x,
     input_names=("C_ref", "t_ref", "t_x"),

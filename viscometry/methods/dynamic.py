@@ -60,6 +60,7 @@ def _check(method: Method, v: Mapping[str, float]) -> list[str]:
 
 DYNAMIC_FROM_KINEMATIC = Method(
     name="dynamic_from_kinematic",
+    positive_inputs=("nu", "rho"),
     title="Dynamic viscosity η = ν ρ with a shared temperature error",
     expression=nu * (1 - alpha_nu * dT) * rho * (1 - alpha_rho * dT),
     input_names=("nu", "rho", "alpha_nu", "alpha_rho", "dT"),
@@ -78,6 +79,7 @@ DYNAMIC_FROM_KINEMATIC = Method(
 
 DYNAMIC_FROM_KINEMATIC_CORRELATED = Method(
     name="dynamic_from_kinematic_correlated",
+    positive_inputs=("nu", "rho"),
     title="Dynamic viscosity η = ν ρ (shared effects as a correlation between ν and ρ)",
     expression=nu * rho,
     input_names=("nu", "rho"),

@@ -115,6 +115,7 @@ _VALIDITY = (
 
 FALLING_SPHERE = Method(
     name="falling_sphere",
+    positive_inputs=("r", "g", "rho_s", "rho_f", "s", "t", "R"),
     title="Falling-sphere viscometer, Stokes' law with Faxén's wall correction",
     expression=_stokes * _faxen_expr(r / R),
     input_names=tuple(_UNITS),
@@ -134,6 +135,7 @@ FALLING_SPHERE = Method(
 
 FALLING_SPHERE_STOKES = Method(
     name="falling_sphere_stokes",
+    positive_inputs=("r", "g", "rho_s", "rho_f", "s", "t"),
     title="Falling-sphere viscometer, Stokes' law (unbounded liquid)",
     expression=_stokes,
     input_names=tuple(k for k in _UNITS if k != "R"),

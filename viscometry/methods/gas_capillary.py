@@ -86,6 +86,7 @@ _VALIDITY = (
 
 GAS_CAPILLARY = Method(
     name="gas_capillary",
+    positive_inputs=("r", "p1", "p2", "t", "L", "V2"),
     title="Gas capillary viscometer, compressible Poiseuille flow",
     expression=_core,
     input_names=tuple(_UNITS),
@@ -101,6 +102,7 @@ GAS_CAPILLARY = Method(
 
 GAS_CAPILLARY_SLIP = Method(
     name="gas_capillary_slip",
+    positive_inputs=("r", "p1", "p2", "t", "L", "V2"),
     title="Gas capillary viscometer, compressible Poiseuille flow with first-order slip",
     expression=_core * (1 + 4 * xi / r),
     input_names=(*_UNITS, "xi"),

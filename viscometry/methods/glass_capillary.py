@@ -192,6 +192,7 @@ def _check_corrected(method: Method, values: Mapping[str, float]) -> list[str]:
 
 GLASS_CAPILLARY_KINETIC = Method(
     name="glass_capillary_kinetic",
+    positive_inputs=("C", "t"),
     title="Glass capillary viscometer, kinetic-energy form ν = C t − E/t²",
     expression=C * t - E / t**2,
     input_names=("C", "t", "E"),
@@ -211,6 +212,7 @@ GLASS_CAPILLARY_KINETIC = Method(
 
 GLASS_CAPILLARY_HAGENBACH = Method(
     name="glass_capillary_hagenbach",
+    positive_inputs=("C", "t"),
     title="Glass capillary viscometer, Hagenbach form ν = C t − B/t",
     expression=C * t - B / t,
     input_names=("C", "t", "B"),
@@ -238,6 +240,7 @@ _CORRECTED_REFERENCES = (
 
 GLASS_CAPILLARY_CORRECTED = Method(
     name="glass_capillary_corrected",
+    positive_inputs=("C", "t", "g1", "g2"),
     title="Glass capillary viscometer with gravity, tilt and bath-temperature corrections",
     expression=(_corrected_core * t - E / t**2) * (1 - alpha * dT),
     input_names=_CORRECTED_NAMES,
@@ -256,6 +259,7 @@ _surface = 1 + 2 * (1 / r_u - 1 / r_l) * (sigma_c / rho_c - sigma_x / rho_x) / (
 
 GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION = Method(
     name="glass_capillary_corrected_surface_tension",
+    positive_inputs=("C", "t", "g1", "g2", "h", "r_u", "r_l", "rho_c", "rho_x"),
     title="Glass capillary viscometer with gravity, tilt, bath-temperature and surface-tension "
     "corrections",
     expression=(_corrected_core * _surface * t - E / t**2) * (1 - alpha * dT),

@@ -150,6 +150,7 @@ def _check_thread(method: Method, values: Mapping[str, float]) -> list[str]:
 
 PRESSURE_CAPILLARY = Method(
     name="pressure_capillary",
+    positive_inputs=("r", "dp", "t", "V", "L", "rho"),
     title="Pressure-driven absolute capillary viscometer (Hagen-Poiseuille, corrected)",
     expression=poiseuille_expression(r, dp),
     input_names=("r", "dp", "t", "V", "L", "n", "m", "rho"),
@@ -168,6 +169,7 @@ PRESSURE_CAPILLARY = Method(
 
 PRESSURE_CAPILLARY_MANOMETER = Method(
     name="pressure_capillary_manometer",
+    positive_inputs=("r", "rho_m", "g", "h", "t", "V", "L", "rho"),
     title="Pressure-driven capillary, Δp from a liquid manometer (with air buoyancy)",
     expression=poiseuille_expression(r, (rho_m - rho_air) * g * h),
     input_names=("r", "rho_m", "g", "h", "rho_air", "t", "V", "L", "n", "m", "rho"),
@@ -198,6 +200,7 @@ PRESSURE_CAPILLARY_MANOMETER = Method(
 
 PRESSURE_CAPILLARY_MERCURY_THREAD = Method(
     name="pressure_capillary_mercury_thread",
+    positive_inputs=("m_Hg", "rho_Hg", "l_Hg", "dp", "t", "V", "L", "rho"),
     title="Pressure-driven capillary, radius from a mercury thread's mass and length",
     expression=poiseuille_expression(
         sp.sqrt(m_Hg / (sp.pi * rho_Hg * l_Hg)),
