@@ -1,0 +1,270 @@
+"""Numerical robustness: results stay finite, or the error says why.
+
+Cases: inputs from nanometres to metres and results from µPa·s to kPa·s; an estimate
+y = 0 (relative quantities undefined: stated in the warnings, NaN only where documented);
+all inputs with infinite degrees of freedom; inputs with zero uncertainty; correlation
+matrices at the edge of positive semidefiniteness; Monte Carlo runs whose model has
+extreme tails or undefined values.
+
+Expected values are exact analytic cases or independent recomputations (plain floats,
+numpy, scipy); each says where it comes from.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import warnings
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from viscometry.errors import CorrelationError, ModelError
+from viscometry.gum import (
+    Budget,
+    Correlation,
+    InputQuantity,
+    run_monte_carlo,
+    simulate_budget,
+    validate_correlation,
+)
+from viscometry.gum.propagation import PSD_TOLERANCE
+from viscometry.io.json_out import dumps, result_to_dict
+
+POISEUILLE = "pi * r**4 * dp * t / (8 * V * L)"
+
+
+def _poiseuille_budget(r, r_unit, L, L_unit, V, V_unit, dp, dp_unit, t, unit):
+    """η = π r⁴ Δp t / (8 V L), each input with 1 % relative standard uncertainty."""
+    inputs = [
+        InputQuantity.normal("r", r, 0.01 * r, r_unit),
+        InputQuantity.normal("L", L, 0.01 * L, L_unit),
+        InputQuantity.normal("V", V, 0.01 * V, V_unit),
+        InputQuantity.normal("dp", dp, 0.01 * dp, dp_unit),
+        InputQuantity.normal("t", t, 0.01 * t, "s"),
+    ]
+    return Budget.from_formula("eta", POISEUILLE, inputs, unit)
+
+
+# (r, unit), (L, unit), (V, unit), (dp, unit), t [s], measurand unit, SI factors of the units
+SCALES = [
+    # a nano-channel: r = 50 nm, L = 2 µm, V = 1 fL (1e-18 m³), Δp = 200 kPa → µPa·s range
+    ((50.0, "nm"), (2.0, "um"), (1.0e-9, "mm^3"), (200.0, "kPa"), 1.0e-3, "uPa*s",
+     (1e-9, 1e-6, 1e-9, 1e3, 1e-6)),
+    # a laboratory capillary: r = 0.2 mm, L = 100 mm, V = 1 mL, Δp = 800 Pa → mPa·s
+    ((0.2, "mm"), (100.0, "mm"), (1.0, "mL"), (800.0, "Pa"), 200.0, "mPa*s",
+     (1e-3, 1e-3, 1e-6, 1.0, 1e-3)),
+    # a wide pipe and a very viscous liquid: r = 0.05 m, L = 1 m, V = 1 L → kPa·s
+    ((0.05, "m"), (1.0, "m"), (1.0, "L"), (50.0, "kPa"), 3600.0, "kPa*s",
+     (1.0, 1.0, 1e-3, 1e3, 1e3)),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize("case", SCALES, ids=["nano_uPa_s", "lab_mPa_s", "pipe_kPa_s"])
+def test_orders_of_magnitude_exact_power_law(case):
+    (r, ru), (L, lu), (V, vu), (dp, pu), t, unit, (sr, sl, sv, sp, so) = case
+    result = _poiseuille_budget(r, ru, L, lu, V, vu, dp, pu, t, unit).evaluate()
+    # Independent recomputation with plain floats in SI, then in the measurand unit.
+    eta_si = math.pi * (r * sr) ** 4 * (dp * sp) * t / (8 * (V * sv) * (L * sl))
+    assert result.value == pytest.approx(eta_si / so, rel=1e-12)
+    # Pure power law: (u_c/y)² = Σ (nᵢ u(xᵢ)/xᵢ)², exponents 4, 1, 1, -1, -1, each
+    # u/x = 1 % (JCGM 100:2008, 5.1.6, eq. (12)).
+    rel = math.sqrt(sum((n * 0.01) ** 2 for n in (4, 1, 1, 1, 1)))
+    assert result.standard_uncertainty / result.value == pytest.approx(rel, rel=1e-12)
+    for c in result.contributions:
+        assert math.isfinite(c.sensitivity) and math.isfinite(c.contribution)
+    assert [round(c.relative_sensitivity, 12) for c in result.contributions] == [4, -1, -1, 1, 1]
+    assert math.isfinite(result.expanded_uncertainty)
+    assert "relative U" in result.statement()
+
+
+def test_same_budget_in_any_unit_has_the_same_relative_uncertainty():
+    # Unit invariance (common practice, no source): µPa·s and kPa·s differ by 1e9.
+    base = _poiseuille_budget(0.2, "mm", 100.0, "mm", 1.0, "mL", 800.0, "Pa", 200.0, "Pa*s")
+    small = base.with_settings(unit="uPa*s").evaluate()
+    large = base.with_settings(unit="kPa*s").evaluate()
+    assert small.value == pytest.approx(large.value * 1e9, rel=1e-12)
+    assert small.relative_expanded_uncertainty == pytest.approx(
+        large.relative_expanded_uncertainty, rel=1e-12
+    )
+
+
+def test_result_too_large_for_its_unit_is_a_clear_error():
+    b = Budget.from_formula(
+        "l", "a + b", [InputQuantity.normal(n, 1e308, 1.0, "mm") for n in "ab"], "mm"
+    )
+    with pytest.raises(ModelError, match=r"cannot be expressed in the measurand unit 'mm'"):
+        b.evaluate()
+
+
+# ----------------------------------------------------------------------------- y = 0
+def _difference_budget(a=2.5, b=2.5):
+    return Budget.from_formula(
+        "d",
+        "a - b",
+        [InputQuantity.normal("a", a, 0.03, "mm"), InputQuantity.normal("b", b, 0.04, "mm")],
+        "mm",
+    )
+
+
+def test_zero_estimate_relative_quantities_stated_undefined():
+    r = _difference_budget().evaluate()
+    # Exact: d = 0, u_c = sqrt(0.03² + 0.04²) = 0.05 mm (common practice, no source).
+    assert r.value == 0.0
+    assert r.standard_uncertainty == pytest.approx(0.05, rel=1e-14)
+    assert math.isfinite(r.expanded_uncertainty) and r.expanded_uncertainty > 0
+    assert any("estimate is zero" in w and "undefined" in w for w in r.warnings)
+    # NaN only where documented (relative quantities), and the statement omits them.
+    assert math.isnan(r.relative_expanded_uncertainty)
+    assert all(math.isnan(c.relative_sensitivity) for c in r.contributions)
+    assert all(math.isfinite(c.sensitivity) for c in r.contributions)
+    assert "relative U" not in r.statement() and "nan" not in r.statement().lower()
+    d = json.loads(dumps(result_to_dict(r)))  # strict JSON: NaN is written as null
+    assert d["relative_expanded_uncertainty"] is None
+    assert all(row["relative_sensitivity"] is None for row in d["inputs"])
+
+
+def test_tiny_nonzero_estimate_is_finite():
+    r = _difference_budget(2.5, 2.5 - 1e-12).evaluate()
+    assert r.value == pytest.approx(1e-12, rel=1e-3)
+    assert math.isfinite(r.relative_expanded_uncertainty)
+    assert all(math.isfinite(c.relative_sensitivity) for c in r.contributions)
+
+
+# ----------------------------------------------------------------------------- dof, zero u
+def test_all_inputs_with_infinite_dof_use_the_normal_quantile():
+    b = Budget.from_formula(
+        "y",
+        "a * b",
+        [InputQuantity.normal("a", 3.0, 0.1, "m"), InputQuantity.normal("b", 2.0, 0.2, "m")],
+        "m^2",
+    )
+    r = b.evaluate()
+    assert math.isinf(r.effective_dof) and math.isinf(r.effective_dof_used)
+    # k = z_{(1+p)/2} of the normal distribution (JCGM 100:2008, G.6.3; scipy recomputes it).
+    assert r.coverage_factor == pytest.approx(stats.norm.ppf((1 + 0.9545) / 2), rel=1e-12)
+    # Exact: u_c² = (b u_a)² + (a u_b)² = 0.2² + 0.6² (JCGM 100:2008, 5.1.2).
+    assert r.standard_uncertainty == pytest.approx(math.hypot(0.2, 0.6), rel=1e-14)
+
+
+def test_zero_uncertainty_inputs_give_zero_shares_not_nan():
+    b = Budget.from_formula(
+        "y",
+        "a + b + c",
+        [
+            InputQuantity.normal("a", 1.0, 0.0, "m", dof=4),
+            InputQuantity.normal("b", 2.0, 0.3, "m", dof=9),
+            InputQuantity.normal("c", 3.0, 0.0, "m"),
+        ],
+        "m",
+    )
+    r = b.evaluate()
+    assert r.contribution("a").variance_share == 0.0
+    assert r.contribution("c").contribution == 0.0
+    assert r.standard_uncertainty == pytest.approx(0.3, rel=1e-14)
+    # Welch-Satterthwaite with one non-zero term gives that term's dof (JCGM 100:2008, G.4.1).
+    assert r.effective_dof == pytest.approx(9.0, rel=1e-12)
+
+
+def test_all_zero_uncertainties_is_stated():
+    b = Budget.from_formula(
+        "y", "a * b", [InputQuantity.normal(n, 2.0, 0.0, "m", dof=3) for n in "ab"], "m^2"
+    )
+    r = b.evaluate()
+    assert r.standard_uncertainty == 0.0 and r.expanded_uncertainty == 0.0
+    assert math.isinf(r.effective_dof)
+    assert all(c.variance_share == 0.0 for c in r.contributions)
+    assert any("combined standard uncertainty is zero" in w for w in r.warnings)
+    assert "exactly known" in r.statement()
+
+
+# ----------------------------------------------------------------------------- correlation
+def _edge_matrix(eigenvalue: float) -> np.ndarray:
+    """A 3×3 correlation matrix whose smallest eigenvalue is ``eigenvalue`` (≈ 0).
+
+    Start from the rank-2 matrix Rᵢⱼ = cos(θᵢ − θⱼ) (PSD with one zero eigenvalue, null
+    vector v), then move r₁₃ by δ = eigenvalue / (2 v₁ v₃), the first-order shift of that
+    eigenvalue (perturbation theory for symmetric matrices).
+    """
+    theta = np.array([0.0, 0.7, 1.9])
+    r = np.cos(theta[:, None] - theta[None, :])
+    w, v = np.linalg.eigh(r)
+    null = v[:, 0]
+    delta = eigenvalue / (2 * null[0] * null[2])
+    r[0, 2] += delta
+    r[2, 0] += delta
+    np.fill_diagonal(r, 1.0)
+    return r
+
+
+def test_near_singular_correlation_accepted_within_round_off():
+    r = _edge_matrix(-1e-12)
+    low = np.linalg.eigvalsh(r).min()  # independent check of the construction (numpy)
+    assert -2e-12 < low < -0.5e-12 and -low < PSD_TOLERANCE
+    checked = validate_correlation(r, ["a", "b", "c"])
+    assert checked[0, 2] == r[0, 2]  # accepted as given, never silently repaired
+
+
+def test_clearly_indefinite_correlation_rejected():
+    r = _edge_matrix(-1e-6)
+    assert np.linalg.eigvalsh(r).min() == pytest.approx(-1e-6, rel=1e-3)
+    with pytest.raises(CorrelationError, match="not positive semidefinite"):
+        validate_correlation(r, ["a", "b", "c"])
+
+
+def test_budget_along_the_null_direction_is_zero_not_nan():
+    """With sensitivities along the (almost) null vector, cᵀRc ≈ −1e-12·|c|²: clipped to 0."""
+    r = _edge_matrix(-1e-12)
+    null = np.linalg.eigh(r)[1][:, 0]
+    names = ["a", "b", "c"]
+    inputs = [InputQuantity.normal(n, 1.0, 1.0, "1") for n in names]
+    formula = " + ".join(f"({float(c)!r})*{n}" for c, n in zip(null, names, strict=True))
+    corr = [
+        Correlation(names[i], names[j], float(r[i, j])) for i in range(3) for j in range(i + 1, 3)
+    ]
+    result = Budget.from_formula("y", formula, inputs, "1", correlations=corr).evaluate()
+    assert result.standard_uncertainty < 1e-5  # ≤ sqrt(round-off), no NaN
+    assert math.isfinite(result.standard_uncertainty)
+    assert all(math.isfinite(t.covariance_term) for t in result.cross_terms)
+
+
+# ----------------------------------------------------------------------------- Monte Carlo
+def test_monte_carlo_heavy_tail_of_an_inverse_stays_finite():
+    # y = 1/x with x rectangular on [0.001, 0.021]: a heavy right tail, but finite.
+    x = InputQuantity.rectangular("x", 0.011, 0.010, "1")
+    b = Budget.from_formula("y", "1 / x", [x], "1")
+    sim = simulate_budget(b, trials=200_000, seed=7)
+    mc = sim.mc
+    assert all(math.isfinite(v) for v in (mc.value, mc.standard_uncertainty, *mc.interval))
+    # The exact mean is ln(0.021/0.001)/0.020 = 152.2 (calculus; common practice, no source);
+    # the sample mean of a heavy tail is close but noisy: 5 % is ample for 2e5 trials.
+    assert mc.value == pytest.approx(math.log(21) / 0.020, rel=0.05)
+    # The first-order result cannot describe this tail: the validation says so.
+    assert not sim.validated
+
+
+def test_monte_carlo_undefined_values_are_a_clear_model_error():
+    # log(x) with x ~ N(0.01, 0.01): about 16 % of the draws are negative (log undefined).
+    b = Budget.from_formula("y", "log(x)", [InputQuantity.normal("x", 0.01, 0.01, "1")], "1")
+    with pytest.raises(ModelError, match=r"non-finite values in \d+ of 20000 trials, e\.g\. x="):
+        simulate_budget(b, trials=20_000, seed=3)
+
+
+def test_monte_carlo_model_raising_is_a_model_error():
+    def blows_up(x):
+        raise ZeroDivisionError("division by zero")
+
+    with pytest.raises(ModelError, match="failed on a chunk of trials"):
+        run_monte_carlo(blows_up, [InputQuantity.normal("x", 1.0, 0.1)], trials=1000, seed=1)
+
+
+def test_no_numpy_warning_escapes_an_evaluation_with_extreme_values():
+    # 1e150 * 1e150 overflows when squared for the variance: a ModelError, no RuntimeWarning.
+    b = Budget.from_formula(
+        "y", "a * b", [InputQuantity.normal(n, 1e150, 1e149, "1") for n in "ab"], "1"
+    )
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(ModelError, match="combined variance overflows"):
+            b.evaluate()
