@@ -264,7 +264,10 @@ def _check_uncached(
 ) -> None:
     placeholders = dict(function_placeholders or {})
     values: dict[sp.Symbol, object] = {}
-    for s in expression.free_symbols:
+    needed = set(expression.free_symbols).union(
+        *(arg.free_symbols for arg, _a, _r in placeholders.values())
+    )
+    for s in needed:
         if s in placeholders:
             continue
         if s.name not in units:

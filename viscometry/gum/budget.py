@@ -227,7 +227,10 @@ class Budget:
             unit_map = {q.name: q.unit for q in self.inputs} | {
                 c.name: c.unit for c in self.constants
             }
-            _units.check_model_dimensions(self.model.expression, unit_map, self.unit)
+            expression, placeholders = self.model.dimension_view()
+            _units.check_model_dimensions(
+                expression, unit_map, self.unit, function_placeholders=placeholders
+            )
         object.__setattr__(self, "_correlation_matrix", self._build_correlation())
 
     # ---------------------------------------------------------------- construction

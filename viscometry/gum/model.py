@@ -23,6 +23,15 @@ from viscometry.gum.inputs import check_name
 __all__ = ["MeasurementModel", "CompiledModel", "compile_model"]
 
 
+def _formula_function_units() -> dict[str, tuple[str, str]]:
+    """Argument and result units of the reference-data functions usable in formulas."""
+    try:
+        from viscometry.properties.formula_functions import FORMULA_FUNCTION_UNITS
+    except ImportError:  # pragma: no cover
+        return {}
+    return dict(FORMULA_FUNCTION_UNITS)
+
+
 def _formula_functions() -> dict[str, Callable[..., sp.Expr]]:
     """Reference-data functions usable inside formulas (water viscosity, density...)."""
     try:
@@ -106,6 +115,34 @@ class MeasurementModel:
         names = list(input_names) + list(constant_names)
         expr = parse_formula(formula, names, functions=_formula_functions(), field=field)
         return cls(expr, tuple(input_names), tuple(constant_names), output_name, formula)
+
+    def dimension_view(self) -> tuple[sp.Expr, dict[sp.Symbol, tuple[sp.Expr, str, str]]]:
+        """The expression for a dimension check, with reference-data calls as placeholders.
+
+        A call such as ``water_viscosity(T)`` expands into a closed form whose numeric
+        coefficients carry hidden units; for checking dimensions it is replaced by a symbol
+        standing for its result, together with (argument, argument unit, result unit).
+        Models without such calls return their expression and no placeholders.
+        """
+        units = _formula_function_units()
+        if self.formula is None or not any(f"{name}(" in self.formula for name in units):
+            return self.expression, {}
+        placeholders: dict[sp.Symbol, tuple[sp.Expr, str, str]] = {}
+
+        def stand_in(name: str) -> Callable[[sp.Expr], sp.Expr]:
+            def call(arg: sp.Expr) -> sp.Expr:
+                symbol = sp.Dummy(name)
+                placeholders[symbol] = (arg, *units[name])
+                return symbol
+
+            return call
+
+        expr = parse_formula(
+            self.formula,
+            list(self.input_names) + list(self.constant_names),
+            functions={name: stand_in(name) for name in units},
+        )
+        return expr, placeholders
 
     # ---------------------------------------------------------------- symbolic views
     def symbol(self, name: str) -> sp.Symbol:
