@@ -43,6 +43,9 @@ from typing import Literal
 import numpy as np
 from scipy import stats
 
+from viscometry._checks import finite as _finite
+from viscometry._checks import non_negative as _non_negative
+from viscometry._checks import positive as _positive
 from viscometry.errors import InputError
 
 __all__ = [
@@ -67,32 +70,6 @@ DECISION_CAUTION: str = (
 
 
 # --------------------------------------------------------------------------- validation
-
-
-def _finite(value: object, field: str) -> float:
-    if isinstance(value, bool):
-        raise InputError(f"{field} must be a number, got {value!r}")
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InputError(f"{field} must be a number, got {value!r}") from None
-    if not math.isfinite(x):
-        raise InputError(f"{field} must be finite, got {x!r}")
-    return x
-
-
-def _positive(value: object, field: str) -> float:
-    x = _finite(value, field)
-    if x <= 0.0:
-        raise InputError(f"{field} must be positive, got {x!r}")
-    return x
-
-
-def _non_negative(value: object, field: str) -> float:
-    x = _finite(value, field)
-    if x < 0.0:
-        raise InputError(f"{field} must be non-negative, got {x!r}")
-    return x
 
 
 def _dof(value: object) -> float:

@@ -35,6 +35,8 @@ import math
 from dataclasses import dataclass
 from typing import Literal
 
+from viscometry._checks import finite as _finite
+from viscometry._checks import positive as _positive
 from viscometry.errors import InputError
 
 __all__ = [
@@ -86,25 +88,6 @@ class Score:
 
 
 # --------------------------------------------------------------------------- helpers
-
-
-def _finite(value: object, field: str) -> float:
-    if isinstance(value, bool):
-        raise InputError(f"{field} must be a number, got {value!r}")
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InputError(f"{field} must be a number, got {value!r}") from None
-    if not math.isfinite(x):
-        raise InputError(f"{field} must be finite, got {x!r}")
-    return x
-
-
-def _positive(value: object, field: str) -> float:
-    x = _finite(value, field)
-    if x <= 0.0:
-        raise InputError(f"{field} must be positive, got {x!r}")
-    return x
 
 
 def _number(x: float) -> str:

@@ -32,6 +32,8 @@ from typing import Literal
 import numpy as np
 from scipy import stats
 
+from viscometry._checks import finite as _finite
+from viscometry._checks import positive as _positive
 from viscometry.errors import InputError
 
 __all__ = [
@@ -76,26 +78,6 @@ def check_name(name: object, field: str = "name") -> str:
     if not name.isascii():
         raise InputError(f"{field} must use ASCII letters only, got {name!r}")
     return name
-
-
-def _finite(value: object, field: str) -> float:
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InputError(f"{field} must be a number, got {value!r}") from None
-    if isinstance(value, bool):
-        raise InputError(f"{field} must be a number, got {value!r}")
-    if not math.isfinite(x):
-        raise InputError(f"{field} must be finite, got {x!r}")
-    return x
-
-
-def _positive(value: object, field: str, *, allow_zero: bool = False) -> float:
-    x = _finite(value, field)
-    if x < 0 or (x == 0 and not allow_zero):
-        bound = "non-negative" if allow_zero else "positive"
-        raise InputError(f"{field} must be {bound}, got {x!r}")
-    return x
 
 
 def _dof(value: object, field: str = "dof") -> float:

@@ -1,0 +1,47 @@
+"""Small argument checks shared by the core modules (messages name the field and the value)."""
+
+from __future__ import annotations
+
+import math
+
+from viscometry.errors import InputError
+
+__all__ = ["finite", "positive", "non_negative"]
+
+
+def finite(value: object, field: str) -> float:
+    """``value`` as a finite float, else :class:`InputError` naming ``field`` and the value.
+
+    Examples
+    --------
+    >>> finite(2, "x")
+    2.0
+    >>> finite("abc", "x")
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.InputError: x must be a number, got 'abc'
+    """
+    if isinstance(value, bool):
+        raise InputError(f"{field} must be a number, got {value!r}")
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        raise InputError(f"{field} must be a number, got {value!r}") from None
+    if not math.isfinite(x):
+        raise InputError(f"{field} must be finite, got {x!r}")
+    return x
+
+
+def positive(value: object, field: str, *, allow_zero: bool = False) -> float:
+    """A finite float > 0 (≥ 0 with ``allow_zero``), else :class:`InputError`."""
+    x = finite(value, field)
+    if x < 0 or (x == 0 and not allow_zero):
+        raise InputError(
+            f"{field} must be {'non-negative' if allow_zero else 'positive'}, got {x!r}"
+        )
+    return x
+
+
+def non_negative(value: object, field: str) -> float:
+    """A finite float ≥ 0, else :class:`InputError`."""
+    return positive(value, field, allow_zero=True)
