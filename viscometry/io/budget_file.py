@@ -2,9 +2,10 @@
 
 A budget file describes one measurand: its model (a formula over named inputs and
 constants, or a built-in viscometer method), the input quantities with their uncertainty
-evaluations, constants, correlations, coverage settings and, optionally, the result that
-was reported (``[recorded]``) so that an audit can recompute it. See ``docs/budget-files.md``
-for the format with examples.
+evaluations, constants, correlations, coverage settings, optionally the context of a built-in
+method's validity checks (``[checks]``, outside the fingerprint: it changes no number) and the
+result that was reported (``[recorded]``) so that an audit can recompute it. See
+``docs/budget-files.md`` for the format with examples.
 
 Reading uses :mod:`tomllib`; every table and key is checked, and a problem raises
 :class:`~viscometry.errors.BudgetFileError` naming the file, the table, the key and the
@@ -67,7 +68,9 @@ FORMAT = "viscometry-budget/1"
 #: Largest budget file accepted, in bytes (a budget is a page of text, not a data set).
 MAX_FILE_BYTES = 1_000_000
 
-_TOP_KEYS = ("format", "title", "measurand", "constants", "inputs", "correlations", "recorded")
+_TOP_KEYS = (
+    "format", "title", "measurand", "constants", "inputs", "correlations", "checks", "recorded",
+)  # fmt: skip
 _MEASURAND_KEYS = (
     "name", "unit", "model", "method", "coverage_probability", "coverage_factor", "rounding",
     "description",
@@ -81,6 +84,8 @@ _INPUT_KEYS = (
 )  # fmt: skip
 _CONSTANT_KEYS = ("value", "unit", "description", "source")
 _CORRELATION_KEYS = ("between", "coefficient")
+#: Keys of one entry of the ``[checks]`` table (the check context of a built-in method).
+_CHECK_KEYS = ("value", "unit", "source")
 _RECORDED_KEYS = (
     "value", "expanded_uncertainty", "coverage_factor", "coverage_probability", "unit",
     "method", "fingerprint", "version", "statement", "date", "note",
@@ -156,6 +161,10 @@ class BudgetFile:
     warnings : tuple of str
         Warnings found while loading (unused input, validity of a method...), also added to
         every result of :meth:`evaluate`.
+    checks : mapping
+        The ``[checks]`` table converted to SI (key → float in the unit of
+        :meth:`viscometry.methods.Method.context_unit`), read-only; the context the method's
+        validity checks ran with. Empty without a ``[checks]`` table.
     document : mapping
         The validated content of the file (read-only), which :func:`save_budget` writes back.
     """
@@ -169,6 +178,7 @@ class BudgetFile:
     method: str | None = None
     warnings: tuple[str, ...] = ()
     document: Mapping[str, Any] = field(default_factory=lambda: MappingProxyType({}), repr=False)
+    checks: Mapping[str, float] = field(default_factory=lambda: MappingProxyType({}))
 
     def evaluate(self, *, higher_order: bool = False) -> BudgetResult:
         """Evaluate the budget with the file's rounding; load warnings join the result's.
@@ -353,7 +363,14 @@ def _from_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
 
     method_obj = None
     method_name = None
+    check_context: dict[str, float] = {}
     if has_model:
+        if "checks" in doc:
+            raise r.fail(
+                "[checks]",
+                "is only used with a built-in method ([measurand] method = ...): a formula "
+                "model has no validity checks to run; remove the [checks] table",
+            )
         formula = r.text(m, "model", "[measurand]", required=True)
         model = _wrap(
             src,
@@ -365,6 +382,7 @@ def _from_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
         method_name = r.text(m, "method", "[measurand]", required=True)
         method_obj = _get_method(src, method_name)
         model = _method_model(r, method_obj, method_name, measurand, inputs, constants)
+        check_context = _check_context(r, doc, method_obj, method_name)
 
     correlations = _correlations(r, doc, set(input_names))
     budget = _wrap(
@@ -397,6 +415,7 @@ def _from_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
         x, _u, _nu, c = budget.si_arrays()
         values = dict(zip(input_names, map(float, x), strict=True))
         values.update(zip(const_names, map(float, c), strict=True))
+        values.update(check_context)
         try:
             checks = list(method_obj.check(values))
         except ViscometryError as exc:
@@ -422,6 +441,7 @@ def _from_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
         method=method_name,
         warnings=tuple(load_warnings),
         document=frozen,
+        checks=MappingProxyType(dict(check_context)),
     )
 
 
@@ -802,6 +822,58 @@ def _method_model(
     )
 
 
+def _check_context(r: _Reader, doc: Mapping[str, Any], method: Any, name: str) -> dict[str, float]:
+    """The ``[checks]`` table in SI: the optional context of the method's validity checks.
+
+    Each key is one of the method's ``context_keys``, given as ``{ value = ..., unit = "..." }``
+    (optionally with ``source``) or, for a dimensionless key, as a bare number. The values
+    are converted with :func:`viscometry.units.si_conversion` and must be positive (every
+    context key is a size, a time, an acceleration, an absolute temperature or a molar mass).
+    """
+    where = "[checks]"
+    table = r.table(doc, "checks", where)
+    accepted = tuple(getattr(method, "context_keys", None) or ())
+    out: dict[str, float] = {}
+    for key, spec in table.items():
+        if key not in accepted:
+            allowed = ", ".join(accepted) if accepted else "none (it has no optional checks)"
+            raise r.fail(where, f"has unknown key {key!r}; method {name!r} accepts: {allowed}")
+        kwhere = f"[checks] {key}"
+        want = method.context_unit(key)
+        dimensionless = _units.same_dimension(want, "1")
+        if isinstance(spec, dict):
+            r.keys(spec, _CHECK_KEYS, kwhere)
+            value = r.number(spec, "value", kwhere)
+            unit = r.unit(spec, kwhere)
+            r.text(spec, "source", kwhere, default="")
+        elif isinstance(spec, (int, float)) and not isinstance(spec, bool) and dimensionless:
+            value = r.number(table, key, where)
+            unit = "1"
+        else:
+            example = f'{{ value = ..., unit = "{want}" }}'
+            if not dimensionless and isinstance(spec, (int, float)) and not isinstance(spec, bool):
+                raise r.fail(kwhere, f"needs a unit: write {key} = {example}, got {_show(spec)}")
+            raise r.fail(kwhere, f"must be a table such as {example}, got {_show(spec)}")
+        if not _units.same_dimension(unit, want):
+            raise r.fail(
+                kwhere,
+                f"unit {unit!r} does not fit method {name!r}: {key} is measured in units "
+                f"like {want!r}",
+            )
+        if "delta_" in unit and _units.same_dimension(want, "K"):
+            raise r.fail(
+                kwhere,
+                f"unit {unit!r} is a temperature difference, but {key} is an absolute "
+                f'temperature; write unit = "K" or "degC"',
+            )
+        scale, offset = _units.si_conversion(unit, f"{kwhere} unit")
+        value_si = value * scale + offset
+        if not (math.isfinite(value_si) and value_si > 0):
+            raise r.fail(kwhere, f"value must be positive and finite, got {value!r} {unit}")
+        out[key] = value_si
+    return out
+
+
 # --------------------------------------------------------------------------- documents
 def _freeze(v: Any) -> Any:
     if isinstance(v, Mapping):
@@ -1037,7 +1109,7 @@ def dumps_budget(document: Mapping[str, Any], *, header: str | None = None) -> s
     document : mapping
         ``format``, ``title``, and the tables ``measurand``, ``constants`` (written as
         inline tables), ``inputs`` (one ``[inputs.NAME]`` table each), ``correlations``
-        (``[[correlations]]``) and ``recorded``.
+        (``[[correlations]]``), ``checks`` (entries as inline tables) and ``recorded``.
     header : str, optional
         A comment placed on the first lines (``#`` is added).
     """
@@ -1061,6 +1133,9 @@ def dumps_budget(document: Mapping[str, Any], *, header: str | None = None) -> s
     for c in document.get("correlations", ()):
         lines.append("")
         lines += _table_lines("[[correlations]]", c)
+    if document.get("checks"):
+        lines.append("")
+        lines += _table_lines("[checks]", document["checks"])
     if document.get("recorded"):
         lines.append("")
         lines += _table_lines("[recorded]", document["recorded"])
@@ -1079,7 +1154,7 @@ def save_budget(
     ----------
     budget_file_or_budget : BudgetFile or Budget
         A :class:`BudgetFile` is written from its document (keeping the uncertainty forms,
-        descriptions and ``[recorded]`` table as read); a :class:`Budget` is described by
+        descriptions, ``[checks]`` and ``[recorded]`` tables as read); a :class:`Budget` is described by
         :func:`budget_to_document`.
     path : path-like
         Target file; an existing file is replaced only when the new one is complete.

@@ -4,7 +4,8 @@ The canonical form keeps everything that can change a reported number — the me
 name and unit, the model (formula or built-in method), the constants, the inputs as
 written (values, units, uncertainty forms, readings, degrees of freedom), the correlations
 and the settings (coverage probability or factor, rounding) — and drops what cannot:
-the title, descriptions, sources and the ``[recorded]`` table. It is serialised as JSON with
+the title, descriptions, sources, the ``[recorded]`` table and the ``[checks]`` table
+(context values for validity warnings, which change no number). It is serialised as JSON with
 sorted keys and no whitespace, so the fingerprint does not depend on key order, comments,
 whitespace or how a number was typed:
 

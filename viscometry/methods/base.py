@@ -12,6 +12,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 import math
+import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -44,6 +45,10 @@ def _no_check(method: Method, values: Mapping[str, float]) -> list[str]:
     return []
 
 
+#: The SI unit of a check-context key is written in square brackets in its description.
+_BRACKETED_UNIT = re.compile(r"\[([^\[\]]+)\]")
+
+
 @dataclass(frozen=True)
 class Method:
     """A built-in measurement model (immutable).
@@ -74,7 +79,8 @@ class Method:
         Exactly known constants the expression uses (usually none).
     context_keys : dict
         Optional extra keys (not inputs) that ``check`` uses if present: name → description
-        with SI unit (e.g. ``"density"`` for a Reynolds-number check).
+        with the SI unit in square brackets, e.g. ``"capillary radius r [m], ..."`` (see
+        :meth:`context_unit`; budget files give them in a ``[checks]`` table).
     checker : callable
         ``checker(method, values_si) -> list[str]``; use :meth:`check`.
     positive_inputs : tuple of str
@@ -181,6 +187,42 @@ class Method:
             return float(fn(*args))
 
     # ------------------------------------------------------------------ checks
+    def context_unit(self, key: str) -> str:
+        """SI unit of an optional check-context key (see :attr:`context_keys`).
+
+        The unit is the text in the first square brackets of the key's description
+        (``"capillary radius r [m], enables ..."`` gives ``"m"``); a description without
+        brackets marks a dimensionless key (``"1"``).
+
+        Parameters
+        ----------
+        key : str
+            One of :attr:`context_keys`.
+
+        Returns
+        -------
+        str
+            Pint unit text, e.g. ``"m"``, ``"m^3"``, ``"m/s^2"``, ``"K"``, ``"1"``.
+
+        Raises
+        ------
+        InputError
+            If ``key`` is not a context key of this method (the message lists those it has).
+
+        Examples
+        --------
+        >>> from viscometry.methods import get_method
+        >>> get_method("glass_capillary_kinetic").context_unit("flow_volume")
+        'm^3'
+        """
+        if key not in self.context_keys:
+            accepted = ", ".join(self.context_keys) or "none"
+            raise InputError(
+                f"method {self.name} has no check context key {key!r} (it accepts: {accepted})"
+            )
+        found = _BRACKETED_UNIT.search(self.context_keys[key])
+        return found.group(1).strip() if found else "1"
+
     def estimate_problem(self, name: str, value_si: float, unit_given: str = "") -> str | None:
         """Why an input's estimate cannot be used by this method, or None.
 

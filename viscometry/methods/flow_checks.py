@@ -396,10 +396,12 @@ def check_flow_time(flow_time: float, minimum: float = MINIMUM_FLOW_TIME_MANUAL)
     """
     t = float(flow_time)
     if t < minimum:
-        return [
-            f"flow time {t:.4g} s is below the minimum {minimum:g} s "
-            "(ISO 3104 / ASTM D445, manual timing)"
-        ]
+        source = (
+            "ISO 3104 / ASTM D445, manual timing"
+            if minimum == MINIMUM_FLOW_TIME_MANUAL
+            else "the laboratory's own minimum"
+        )
+        return [f"flow time {t:.4g} s is below the minimum {minimum:g} s ({source})"]
     return []
 
 
