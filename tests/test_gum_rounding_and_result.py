@@ -140,3 +140,31 @@ def test_linearised_budget_matches_full_evaluation():
         assert fast.effective_dof == pytest.approx(full.effective_dof, rel=1e-12)
         assert fast.expanded_uncertainty == pytest.approx(full.expanded_uncertainty, rel=1e-12)
     assert lin.uncertainties[0] == 1e-4  # the original is untouched
+
+
+def test_fixed_k_with_few_degrees_of_freedom_states_what_it_covers():
+    # JCGM 100:2008, G.3: +-k covers 2 F_t(k; nu) - 1; k = 2 with nu = 2 covers 81.65 %
+    # (exact t distribution, recomputed with scipy)
+    from scipy import stats
+
+    qs = [
+        InputQuantity.from_readings("a", [1.0, 1.2, 1.1], "m"),
+        InputQuantity.normal("b", 1.0, 0.001, "m"),
+    ]
+    r = Budget.from_formula("y", "a + b", qs, "m", coverage_factor=2).evaluate()
+    assert r.effective_dof_used == 2
+    assert r.coverage_probability == pytest.approx(2 * stats.t.cdf(2.0, 2) - 1)
+    assert "p ≈ 81.65 %" in r.statement()
+    assert any("gives a coverage probability of about 81.6 %" in w for w in r.warnings)
+    # with infinite dof, k = 2 covers 95.45 % (JCGM 100:2008, G.1.3): nothing to say
+    exact = [InputQuantity.normal("a", 1.0, 0.1, "m"), InputQuantity.normal("b", 1.0, 0.1, "m")]
+    r2 = Budget.from_formula("y", "a + b", exact, "m", coverage_factor=2).evaluate()
+    assert r2.coverage_probability == 0.9545 and not r2.warnings
+
+
+def test_relative_uncertainty_of_a_celsius_measurand_is_undefined():
+    qs = [InputQuantity.normal("T", 20.0, 0.1, "degC"), InputQuantity.normal("dT", 0.5, 0.05, "K")]
+    r = Budget.from_formula("T2", "T + dT", qs, "degC").evaluate()
+    assert r.value == pytest.approx(20.5)
+    assert math.isnan(r.relative_expanded_uncertainty)
+    assert "relative U" not in r.statement()

@@ -343,13 +343,16 @@ def test_chunk_size_does_not_change_the_result():
     xs = _demo_inputs()
     corr = np.eye(4)
     corr[0, 1] = corr[1, 0] = 0.5
-    base = run_monte_carlo(
-        _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=30_000
-    )
-    for chunk in (3, 977, 10_000):
-        other = run_monte_carlo(
-            _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=chunk
+    # input b is t-distributed: in the correlated block it is drawn as a normal, and said so
+    with pytest.warns(CorrelationWarning, match=r"b \(student_t\)"):
+        base = run_monte_carlo(
+            _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=30_000
         )
+    for chunk in (3, 977, 10_000):
+        with pytest.warns(CorrelationWarning):
+            other = run_monte_carlo(
+                _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=chunk
+            )
         assert other == base
 
 
@@ -397,7 +400,8 @@ def test_fully_correlated_inputs_positive_semidefinite(r):
         InputQuantity.normal("c", 0.0, 1.0),
     ]
     corr = [[1.0, r, 0.0], [r, 1.0, 0.0], [0.0, 0.0, 1.0]]
-    x = draw_inputs(xs, corr, 100_000, np.random.default_rng(6))
+    with pytest.warns(CorrelationWarning, match=r"b \(student_t\)"):
+        x = draw_inputs(xs, corr, 100_000, np.random.default_rng(6))
     # Exact: with |r| = 1, b = r·(u_b/u_a)·a for every draw (up to rounding).
     np.testing.assert_allclose(x[1], r * 3.0 * x[0], atol=1e-12)
     assert abs(np.corrcoef(x[0], x[2])[0, 1]) < 0.02  # independent: 6 SE at N = 10⁵

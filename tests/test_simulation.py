@@ -292,3 +292,20 @@ def test_result_is_frozen_and_text_is_complete():
     assert lines[-1] == sim.statement()
     assert sim.to_text() == "\n".join(lines)
     assert "budget=" not in repr(sim)  # the long budget is left out of the repr
+
+
+def test_no_validation_when_a_t_input_has_infinite_variance():
+    # JCGM 101:2008, 6.4.9: the scaled-shifted t with nu <= 2 has no finite variance, so the
+    # Monte Carlo u(y), and delta built from it, are undefined (exact analytic property).
+    b = Budget.from_formula("y", "t", [InputQuantity.from_readings("t", [10.0, 10.2], "s")], "s")
+    sim = simulate_budget(b, trials=20_000, seed=1)
+    assert not sim.validated
+    assert "ν ≤ 2" in sim.statement()
+    assert "no finite variance" in sim.validation.statement
+
+
+def test_no_validation_when_every_input_is_exact():
+    b = Budget.from_formula("y", "a * 2", [InputQuantity.normal("a", 1.0, 0.0, "m")], "m")
+    sim = simulate_budget(b, trials=1_000, seed=1)
+    assert not sim.validated
+    assert "nothing to validate" in sim.validation.statement

@@ -46,6 +46,10 @@ __all__ = [
 #: Default coverage probability: the ≈95 % of a coverage factor 2 for a normal distribution.
 DEFAULT_COVERAGE_PROBABILITY = 0.9545
 
+#: A fixed k whose coverage probability falls short of the stated one by more than this
+#: (0.5 percentage points) is reported with the probability it really gives.
+FIXED_K_SHORTFALL = 0.005
+
 #: Ratio of higher-order to first-order u_c beyond which the higher-order terms are flagged.
 HIGHER_ORDER_NOTICE = 0.01
 
@@ -483,6 +487,21 @@ def _largest(budget: Budget, contributions_si: np.ndarray) -> str:
     return f"{budget.inputs[i].name} gives {float(contributions_si[i]):.3g} in SI units"
 
 
+def coverage_probability_of(coverage_factor: float, dof: float) -> float:
+    """Two-sided coverage probability of ±k for a t distribution with ν (normal if ν = ∞).
+
+    Examples
+    --------
+    >>> round(coverage_probability_of(2.0, math.inf), 4), round(coverage_probability_of(2.0, 2), 3)
+    (0.9545, 0.816)
+    """
+    from scipy import stats
+
+    if math.isinf(dof):
+        return float(2.0 * stats.norm.cdf(coverage_factor) - 1.0)
+    return float(2.0 * stats.t.cdf(coverage_factor, dof) - 1.0)
+
+
 def _frozen(a: np.ndarray) -> np.ndarray:
     a = np.array(a, dtype=float)
     a.setflags(write=False)
@@ -651,7 +670,14 @@ def _assemble(
                         )  # fmt: skip
                     )
     # Degrees of freedom
-    nu_eff = float(welch_satterthwaite(contrib_si, nu, uc_si)) if uc_si > 0 else math.inf
+    # With the higher-order terms, nu_eff still comes from the first-order contributions:
+    # the second-order terms have no degrees of freedom of their own to put into eq. (G.2b),
+    # and counting them as exact would raise nu_eff (and lower k) unduly.
+    nu_eff = (
+        float(welch_satterthwaite(contrib_si, nu, first_order_uc))
+        if first_order_uc > 0
+        else math.inf
+    )
     correlated = r is not None and bool(np.any(r - np.eye(len(u)) != 0))
     if correlated:
         involved = {
@@ -671,6 +697,16 @@ def _assemble(
         k = float(budget.coverage_factor)
         p = budget.coverage_probability
         k_source = "fixed"
+        delivered = coverage_probability_of(k, nu_used)
+        if delivered < p - FIXED_K_SHORTFALL:
+            warnings.append(
+                f"with ν_eff = {nu_used:g} the fixed coverage factor k = {k:.2f} gives a "
+                f"coverage probability of about {100 * delivered:.1f} %, not "
+                f"{100 * p:.2f} % (JCGM 100:2008, G.3 and G.6.4); the statement reports the "
+                f"{100 * delivered:.1f} %. Give a coverage probability instead of a fixed k "
+                f"to get k = t_p(ν_eff)"
+            )
+            p = delivered
     else:
         p = budget.coverage_probability
         k = coverage_factor_for(p, nu_used)
@@ -780,8 +816,11 @@ class BudgetResult:
 
     @property
     def relative_expanded_uncertainty(self) -> float:
-        """U/|y|, NaN when y = 0."""
-        return self.expanded_uncertainty / abs(self.value) if self.value != 0 else math.nan
+        """U/|y|; NaN when y = 0 or when the measurand is in an offset unit such as degC
+        (a relative uncertainty of a Celsius value has no meaning)."""
+        if self.value == 0 or self.budget._scales[2][1] != 0.0:
+            return math.nan
+        return self.expanded_uncertainty / abs(self.value)
 
     def contribution(self, name: str) -> InputContribution:
         """The budget row of input ``name``."""

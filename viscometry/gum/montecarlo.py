@@ -147,6 +147,8 @@ class ValidationResult:
         |y − U_p − y_low| and |y + U_p − y_high| (JCGM 101:2008, 8.2), in the output unit.
     validated : bool
         ``True`` when both d_low and d_high are at most δ.
+    not_applicable : str
+        Why a validation could not be made (then ``validated`` is ``False``), else ``""``.
     """
 
     reference: str
@@ -154,6 +156,7 @@ class ValidationResult:
     d_low: float
     d_high: float
     validated: bool
+    not_applicable: str = ""
 
     @property
     def statement(self) -> str:
@@ -164,6 +167,8 @@ class ValidationResult:
         >>> ValidationResult("first-order", 0.0005, 0.00021, 0.00032, True).statement
         'first-order budget validated at δ = 0.0005 (d_low = 0.0002, d_high = 0.0003)'
         """
+        if self.not_applicable:
+            return f"{self.reference} budget not validated: {self.not_applicable}"
         verdict = "validated" if self.validated else "not validated"
         return (
             f"{self.reference} budget {verdict} at δ = {_fmt_like(self.tolerance, self.tolerance)} "
@@ -309,7 +314,7 @@ class _Sampler:
                 odd = [
                     f"{inputs[i].name} ({inputs[i].distribution})"
                     for i in self._joint
-                    if inputs[i].distribution not in ("normal", "student_t")
+                    if inputs[i].distribution != "normal"
                 ]
                 if odd:
                     warnings.warn(

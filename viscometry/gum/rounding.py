@@ -4,7 +4,9 @@ The expanded uncertainty is given to at most two significant digits and the valu
 same decimal place (JCGM 100:2008, 7.2.6). Ordinary rounding uses round-half-even on the
 exact decimal form of the number (ISO 80000-1:2009, Annex B, rule B). The documented option
 ``rounding="ea-4/02"`` rounds U *up* whenever ordinary rounding would lower it by more than
-5 % (EA-4/02 M:2022, 5.4); ``rounding="up"`` always rounds U up.
+5 % (EA-4/02 M:2022, 5.4, from memory); ``rounding="up"`` always rounds U up. With two
+significant digits ordinary rounding lowers U by at most 0.5/10.5 ≈ 4.8 %, so
+``"ea-4/02"`` then equals ``"nearest"``; it differs when one digit is kept.
 """
 
 from __future__ import annotations

@@ -108,6 +108,8 @@ class BudgetSimulation:
         JCGM 101:2008, 8.2.
         """
         v = self.validation
+        if v.not_applicable:
+            return v.statement
         unit = _unit_suffix(self.unit)
         verdict = "validated" if v.validated else "not validated"
         dec = _decimals(v.tolerance)
@@ -383,6 +385,9 @@ def simulate_budget(
         significant_digits=significant_digits,
         reference=first_order.method,
     )
+    reason = _validation_not_applicable(inputs, first_order, mc, adaptive)
+    if reason:
+        validation = replace(validation, validated=False, not_applicable=reason)
     return BudgetSimulation(
         budget=budget,
         first_order=first_order,
@@ -390,3 +395,25 @@ def simulate_budget(
         validation=validation,
         significant_digits=int(significant_digits),
     )
+
+
+def _validation_not_applicable(
+    inputs: tuple, first_order: BudgetResult, mc: MonteCarloResult, adaptive: bool
+) -> str:
+    """Why JCGM 101 clause 8 validation cannot be made here, or ``""``."""
+    heavy = [
+        q.name
+        for q in inputs
+        if q.distribution == "student_t" and q.standard_uncertainty > 0 and q.dof <= 2
+    ]
+    if heavy:
+        return (
+            f"input(s) {', '.join(heavy)} are t-distributed with ν ≤ 2, which has no finite "
+            "variance (JCGM 101:2008, 6.4.9), so the Monte Carlo u(y) and the tolerance δ "
+            "are undefined; use more readings or a pooled standard deviation"
+        )
+    if first_order.expanded_uncertainty == 0 or mc.standard_uncertainty == 0:
+        return "every input is exactly known, so there is nothing to validate"
+    if adaptive and not mc.converged:
+        return "the adaptive Monte Carlo run did not stabilise within its trial limit"
+    return ""
