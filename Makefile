@@ -15,7 +15,8 @@ setup:
 demo: setup
 	@$(VENV)/bin/viscometry demo
 
-test: setup
+test:
+	@scripts/bootstrap.sh --browser
 	@scripts/run_tests.sh
 
 lab: setup

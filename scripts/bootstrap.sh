@@ -21,10 +21,10 @@ if [ ! -f "$STAMP" ] || [ "$(cat "$STAMP")" != "$want" ]; then
     echo "$want" > "$STAMP"
 fi
 
-# The real-browser workbook test drives Debian's Chromium through playwright (no browser
-# download). Install it when missing and we can (root with apt-get, as on CI machines);
-# otherwise the browser test is skipped locally and fails under CI=true.
-if [ "${VISCOMETRY_SKIP_BROWSER:-0}" != "1" ] && ! command -v chromium >/dev/null 2>&1; then
+# With --browser (make test): the real-browser workbook test drives Debian's Chromium through
+# playwright (no browser download). Install it when missing and we can (root with apt-get, as
+# on CI machines); otherwise the browser test is skipped locally and fails under CI=true.
+if [ "${1:-}" = "--browser" ] && ! command -v chromium >/dev/null 2>&1; then
     if [ "$(id -u)" = "0" ] && command -v apt-get >/dev/null 2>&1; then
         echo "[bootstrap] installing Debian chromium for the browser test (about two minutes)"
         export DEBIAN_FRONTEND=noninteractive
