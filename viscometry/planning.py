@@ -39,6 +39,12 @@ from viscometry import units as _units
 from viscometry.errors import InputError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import InputQuantity, coverage_factor_for
+from viscometry.gum.propagation import (
+    combined_variance,
+    coverage_factors,
+    truncate_dofs,
+    welch_satterthwaite,
+)
 
 __all__ = [
     "UpgradeCandidate",
@@ -331,37 +337,21 @@ def _scales(budget: Budget) -> tuple[np.ndarray, np.ndarray, float, float]:
     return s, o, out_s, out_o
 
 
-def _coverage_factors(budget: Budget, nu_eff: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """k for each ν_eff (truncated per JCGM 100:2008 G.6.4), one t quantile per distinct ν."""
-    nu_eff = np.asarray(nu_eff, dtype=float)
-    with np.errstate(invalid="ignore"):
-        used = np.where(np.isinf(nu_eff), np.inf, np.maximum(1.0, np.floor(nu_eff + 1e-9)))
-    if budget.coverage_factor is not None:
-        return np.full(nu_eff.shape, float(budget.coverage_factor)), used
-    if np.any(np.isnan(used)):
-        raise InputError("effective degrees of freedom is NaN (zero combined uncertainty?)")
-    distinct, inverse = np.unique(used, return_inverse=True)
-    ks = np.array([coverage_factor_for(budget.coverage_probability, float(d)) for d in distinct])
-    return ks[inverse].reshape(nu_eff.shape), used
-
-
 def _propagate(
     budget: Budget, grad: np.ndarray, u: np.ndarray, nu: np.ndarray
 ) -> dict[str, np.ndarray]:
-    """u_c, ν_eff, k and U for many budgets at once (SI; axis 0 = inputs, axis 1 = cases)."""
+    """u_c, ν_eff, k and U for many budgets at once (SI; axis 0 = inputs, axis 1 = cases).
+
+    The engine's own vectorised propagation (JCGM 100:2008 eq. 16, G.2b, G.6.4) on columns.
+    """
     contributions = grad * u
-    r = budget.correlation_matrix
-    if r is None:
-        var = np.sum(contributions**2, axis=0)
+    uc = np.sqrt(np.maximum(combined_variance(grad, u, budget.correlation_matrix), 0.0))
+    nu_eff = np.asarray(welch_satterthwaite(contributions, nu, uc), dtype=float)
+    used = truncate_dofs(nu_eff)
+    if budget.coverage_factor is not None:
+        k = np.full(nu_eff.shape, float(budget.coverage_factor))
     else:
-        var = np.einsum("ik,ij,jk->k", contributions, r, contributions)
-    uc = np.sqrt(np.maximum(var, 0.0))
-    nu_b = np.broadcast_to(nu, contributions.shape)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        terms = np.where(np.isinf(nu_b), 0.0, contributions**4 / nu_b)
-        denom = terms.sum(axis=0)
-        nu_eff = np.where((denom > 0) & (uc > 0), uc**4 / np.where(denom > 0, denom, 1.0), np.inf)
-    k, used = _coverage_factors(budget, nu_eff)
+        k = coverage_factors(budget.coverage_probability, nu_eff)
     return {"contributions": contributions, "u_c": uc, "nu_eff": nu_eff, "nu_used": used,
             "k": k, "U": k * uc}  # fmt: skip
 

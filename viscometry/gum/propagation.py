@@ -25,6 +25,7 @@ __all__ = [
     "combined_variance",
     "welch_satterthwaite",
     "truncate_dof",
+    "truncate_dofs",
     "coverage_factor_for",
     "coverage_factors",
     "higher_order_variance",
@@ -124,7 +125,9 @@ def welch_satterthwaite(
     16.000000000000004
     """
     c = np.asarray(contributions, dtype=float)
-    nu = np.asarray(dofs, dtype=float).reshape((-1,) + (1,) * (c.ndim - 1))
+    nu = np.asarray(dofs, dtype=float)
+    if nu.ndim < c.ndim:  # one dof per input, shared by every column
+        nu = nu.reshape((-1,) + (1,) * (c.ndim - 1))
     with np.errstate(divide="ignore", invalid="ignore"):
         terms = np.where(np.isinf(nu), 0.0, c**4 / nu)
         denom = np.sum(terms, axis=0)
@@ -157,13 +160,28 @@ def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray) ->
     [2.92, 2.58]
     """
     coverage_factor_for(coverage_probability)  # validates p
+    truncated = truncate_dofs(effective_dofs)
+    # one quantile per distinct (integer) dof: sweeps and upgrade searches repeat them a lot
+    distinct, inverse = np.unique(truncated, return_inverse=True)
+    q = 0.5 * (1.0 + coverage_probability)
+    finite = np.isfinite(distinct)
+    ks = np.where(finite, stats.t.ppf(q, np.where(finite, distinct, 1.0)), stats.norm.ppf(q))
+    return ks[inverse].reshape(truncated.shape)
+
+
+def truncate_dofs(effective_dofs: np.ndarray) -> np.ndarray:
+    """Vectorised :func:`truncate_dof`: each ν_eff to the next lower integer, at least 1.
+
+    Examples
+    --------
+    >>> truncate_dofs(np.array([16.7, np.inf, 0.4])).tolist()
+    [16.0, inf, 1.0]
+    """
     nu = np.asarray(effective_dofs, dtype=float)
     if np.any(np.isnan(nu)):
         raise InputError("effective degrees of freedom contain NaN")
     finite = np.isfinite(nu)
-    truncated = np.where(finite, np.maximum(1.0, np.floor(np.where(finite, nu, 1.0) + 1e-9)), 1.0)
-    q = 0.5 * (1.0 + coverage_probability)
-    return np.where(finite, stats.t.ppf(q, truncated), stats.norm.ppf(q))
+    return np.where(finite, np.maximum(1.0, np.floor(np.where(finite, nu, 1.0) + 1e-9)), np.inf)
 
 
 def higher_order_variance(
