@@ -28,7 +28,7 @@ from pathlib import Path
 import pytest
 
 from viscometry.cli import main
-from viscometry.io.budget_file import load_budget
+from viscometry.io import load_budget
 
 ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "viscometry"
@@ -112,7 +112,7 @@ def test_killed_budget_save_leaves_previous_file_intact(tmp_path, capsys):
 
     _kill_mid_write(
         f"""
-        from viscometry.io.budget_file import load_budget, save_budget
+        from viscometry.io import load_budget, save_budget
         bf = load_budget({str(EXAMPLE)!r})
         save_budget(bf.budget.with_uncertainty("r", 0.0005), {str(target)!r})
         """,
@@ -136,7 +136,7 @@ def test_killed_first_write_leaves_no_target(tmp_path):
     target = tmp_path / "new.toml"
     _kill_mid_write(
         f"""
-        from viscometry.io.budget_file import load_budget, save_budget
+        from viscometry.io import load_budget, save_budget
         save_budget(load_budget({str(EXAMPLE)!r}), {str(target)!r})
         """,
         tmp_path,
@@ -251,7 +251,7 @@ def test_every_write_goes_through_the_atomic_helper():
 
 def test_the_helper_itself_is_what_the_writers_call():
     """The writers of budget files and reports import the atomic helper (not a copy)."""
-    for rel in ("viscometry/io/budget_file.py", "viscometry/report.py"):
+    for rel in ("viscometry/io/writer.py", "viscometry/report.py"):
         text = (ROOT / rel).read_text(encoding="utf-8")
         assert "from viscometry.io.atomic import atomic_write_" in text, rel
     atomic = (PACKAGE / "io" / "atomic.py").read_text(encoding="utf-8")

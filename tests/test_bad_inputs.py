@@ -28,7 +28,7 @@ import pytest
 from viscometry import errors
 from viscometry.cli import main
 from viscometry.gum import Budget, Correlation, InputQuantity, parse_formula, validate_correlation
-from viscometry.io.budget_file import MAX_FILE_BYTES, load_budget
+from viscometry.io import MAX_FILE_BYTES, load_budget
 from viscometry.methods import get_method
 
 HERE = Path(__file__).parent / "bad_inputs"
@@ -116,7 +116,7 @@ def test_api_refuses_bad_file(case_path):
     with pytest.raises(errors.ViscometryError) as info:
         bf = load_budget(path)
         assert case.get("stage", "load") == "evaluate", "the file should not load"
-        bf.evaluate()
+        bf.budget.evaluate()
     assert type(info.value) is expected, (type(info.value), str(info.value))
     message = str(info.value)
     if case.get("stage", "load") == "load":

@@ -1,10 +1,13 @@
 """The ``[checks]`` table of budget files: the optional context of a built-in method's
-validity checks (viscometry/io/budget_file.py, Method.context_unit in viscometry/methods/base.py).
+validity checks (viscometry/io/reader.py, Budget.checks / Budget.check_context in
+viscometry/gum/budget.py, Method.context_unit in viscometry/methods/base.py).
 
 Thresholds are those of viscometry/methods/flow_checks.py, with the sources those constants
 cite; the budgets are the invented examples in examples/methods/ with a [checks] table put in
-(or taken out) here. pytest runs with warnings as errors, so every ValidityWarning raised
-while a file loads is asserted with pytest.warns.
+(or taken out) here. Loading a file emits no warning (pytest runs with warnings as errors, and
+:func:`_load` asserts it explicitly); the validity warnings come with the evaluation, in
+``result.warnings``, and are the budget's ``estimate_warnings``. The check context is part of
+the budget, so it is part of its fingerprint.
 """
 
 from __future__ import annotations
@@ -13,6 +16,7 @@ import json
 import math
 import re
 import tomllib
+import warnings
 from pathlib import Path
 from typing import Any
 
@@ -20,9 +24,10 @@ import pytest
 
 import viscometry.methods as methods_pkg
 from viscometry.cli import main
-from viscometry.errors import BudgetFileError, InputError, ValidityWarning
-from viscometry.io.budget_file import dumps_budget, load_budget, loads_budget, save_budget
-from viscometry.io.fingerprint import canonical_json, fingerprint
+from viscometry.errors import BudgetFileError, InputError
+from viscometry.gum import Budget, Constant
+from viscometry.gum.canonical import canonical_form
+from viscometry.io import budget_to_document, dumps_budget, load_budget, loads_budget, save_budget
 from viscometry.methods import METHODS, Method, get_method
 from viscometry.methods import flow_checks as fc
 from viscometry.methods.base import symbols
@@ -49,6 +54,21 @@ def _text(name: str, checks: dict[str, Any] | None = None) -> str:
 def _si_estimates(bf) -> dict[str, float]:
     x = bf.budget.si_arrays()[0]
     return dict(zip(bf.budget.input_names, (float(v) for v in x), strict=True))
+
+
+def _load(text: str, name: str = "checks.toml"):
+    """Load a budget text; loading emits no Python warning at all."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        bf = loads_budget(text, name)
+    assert [str(w.message) for w in caught] == []
+    return bf
+
+
+def _method_check(bf) -> list[str]:
+    """The same context through the method's own ``check`` (SI estimates + check context)."""
+    values = _si_estimates(bf) | dict(bf.budget.check_context)
+    return bf.budget.method.check(values)
 
 
 # ----------------------------------------------------------------------------- units of keys
@@ -94,28 +114,36 @@ def test_conversion_table_covers_every_key() -> None:
 @pytest.mark.parametrize(("name", "key"), PAIRS)
 def test_each_accepted_key_converts_to_si(name: str, key: str) -> None:
     spec, expected = CONVERSIONS[key]
-    bf = loads_budget(_text(name, {key: spec}), f"{name}.toml")
-    assert dict(bf.checks) == {key: pytest.approx(expected, rel=1e-12)}
-    assert bf.warnings == ()
+    bf = _load(_text(name, {key: spec}), f"{name}.toml")
+    assert dict(bf.budget.check_context) == {key: pytest.approx(expected, rel=1e-12)}
+    # the budget keeps the value as stated (its own unit); check_context gives SI
+    assert bf.budget.checks == (Constant(key, float(spec["value"]), spec["unit"]),)
+    assert bf.budget.estimate_warnings == ()  # no validity check fires (the values are chosen so)
 
 
 def test_temperature_in_kelvin_and_fahrenheit() -> None:
     # T/K = (t/°F + 459.67)·5/9 (definition of the Fahrenheit scale): 68 °F = 293.15 K.
-    bf = loads_budget(_text("gas_capillary", {"temperature": {"value": 68.0, "unit": "degF"}}))
-    assert bf.checks["temperature"] == pytest.approx(293.15, rel=1e-12)
-    bf = loads_budget(_text("gas_capillary", {"temperature": {"value": 293.15, "unit": "K"}}))
-    assert bf.checks["temperature"] == 293.15
+    bf = _load(_text("gas_capillary", {"temperature": {"value": 68.0, "unit": "degF"}}))
+    assert bf.budget.check_context["temperature"] == pytest.approx(293.15, rel=1e-12)
+    bf = _load(_text("gas_capillary", {"temperature": {"value": 293.15, "unit": "K"}}))
+    assert bf.budget.check_context["temperature"] == 293.15
 
 
 # ----------------------------------------------------------------------------- the examples
 @pytest.mark.parametrize("name", WITH_CHECKS)
 def test_examples_with_checks_load_clean_and_keep_their_fingerprint(name: str) -> None:
-    bf = load_budget(EXAMPLES / f"{name}.toml")
-    assert bf.checks and bf.warnings == ()
-    assert bf.evaluate().warnings == ()
+    text = (EXAMPLES / f"{name}.toml").read_text(encoding="utf-8")
+    bf = _load(text, f"{name}.toml")
+    assert bf.budget.checks
+    assert set(bf.budget.check_context) == set(tomllib.loads(text)["checks"])
+    assert bf.budget.estimate_warnings == ()  # no validity check fires
+    # ... and the evaluation carries no warning either (glass_capillary_corrected: dT is a
+    # signed deviation of the bath temperature, not a positive input of the model)
+    assert bf.budget.evaluate().warnings == ()
+    # the recorded fingerprint was computed with the [checks] table (it is part of the budget)
     assert bf.fingerprint == bf.recorded.fingerprint
     # the checks did run: the same context through Method.check gives the same (no) warnings
-    assert get_method(name).check_budget(bf.budget, bf.checks) == []
+    assert _method_check(bf) == []
 
 
 def test_gas_example_knudsen_number_is_in_the_continuum_regime() -> None:
@@ -129,18 +157,18 @@ def test_gas_example_knudsen_number_is_in_the_continuum_regime() -> None:
     lam = (
         eta
         / (0.5 * (v["p1"] + v["p2"]))
-        * math.sqrt(math.pi * r_gas * bf.checks["temperature"] / (2.0 * bf.checks["molar_mass"]))
+        * math.sqrt(
+            math.pi
+            * r_gas
+            * bf.budget.check_context["temperature"]
+            / (2.0 * bf.budget.check_context["molar_mass"])
+        )
     )
     kn = lam / (2.0 * v["r"])
     assert 0 < kn < fc.KNUDSEN_CONTINUUM_LIMIT
 
 
 # ----------------------------------------------------------------------------- thresholds
-def _load_warns(text: str, match: str):
-    with pytest.warns(ValidityWarning, match=match):
-        return loads_budget(text, "checks.toml")
-
-
 def _cli_warnings(tmp_path: Path, capsys, text: str) -> list[str]:
     p = tmp_path / "checks.toml"
     p.write_text(text, encoding="utf-8")
@@ -151,7 +179,7 @@ def _cli_warnings(tmp_path: Path, capsys, text: str) -> list[str]:
 
 def _reynolds_context(name: str, reynolds: float) -> dict[str, float]:
     """Bore radius and timed volume giving ``reynolds`` in a glass example, Re = 2V/(π r t ν)."""
-    bf = loads_budget(_text(name))
+    bf = _load(_text(name))
     v = _si_estimates(bf)
     nu = get_method(name).value(v)
     return {
@@ -234,17 +262,26 @@ def test_warning_beyond_threshold_not_within(case: str, tmp_path: Path, capsys) 
     name, within, beyond, match = CASES[case]
     within_text = _text(name, _si_table(name, within))
     beyond_text = _text(name, _si_table(name, beyond))
-    # within: loads without any warning (warnings are errors here), none in the result
-    bf = loads_budget(within_text, "checks.toml")
-    assert bf.warnings == () and bf.evaluate().warnings == ()
+    # within: no warning while loading, none in the result
+    bf = _load(within_text)
+    assert bf.budget.estimate_warnings == () and bf.budget.evaluate().warnings == ()
     assert _cli_warnings(tmp_path, capsys, within_text) == []
-    # beyond: a ValidityWarning while loading, and the text in result.warnings and --json
-    bf = _load_warns(beyond_text, match)
-    result = bf.evaluate()
+    # beyond: still no warning while loading (loading never warns); the text comes with the
+    # evaluation, in result.warnings and in --json
+    bf = _load(beyond_text)
+    result = bf.budget.evaluate()
     assert len(result.warnings) == 1 and re.search(match, result.warnings[0])
+    assert bf.budget.estimate_warnings == result.warnings
     assert _cli_warnings(tmp_path, capsys, beyond_text) == list(result.warnings)
     # the same context through the method's own check gives the same text
-    assert get_method(name).check_budget(bf.budget, bf.checks) == list(result.warnings)
+    assert _method_check(bf) == list(result.warnings)
+    # the same budget built in code (Budget.from_method with the same Constants) gives the
+    # same warnings and the same fingerprint
+    in_code = Budget.from_method(
+        bf.budget.method, bf.budget.inputs, bf.budget.unit, checks=bf.budget.checks
+    )
+    assert in_code.evaluate().warnings == result.warnings
+    assert in_code.fingerprint == bf.fingerprint
 
 
 def test_test_only_files_trigger_every_context_check(tmp_path: Path, capsys) -> None:
@@ -259,15 +296,13 @@ def test_test_only_files_trigger_every_context_check(tmp_path: Path, capsys) -> 
     }
     path = tmp_path / "glass_all_checks.toml"
     path.write_text(_text("glass_capillary_kinetic", glass), encoding="utf-8")
-    with pytest.warns(ValidityWarning) as record:
-        bf = load_budget(path)
-    texts = [str(w.message) for w in record]
-    assert len(texts) == 3
-    warnings = bf.evaluate().warnings
-    assert any("below the minimum 600 s" in w for w in warnings)
-    assert any("above the usual range" in w for w in warnings)
-    assert any("ISO 3104, 7.2" in w for w in warnings)
-    assert _cli_warnings(tmp_path, capsys, path.read_text(encoding="utf-8")) == list(warnings)
+    bf = _load(path.read_text(encoding="utf-8"), str(path))  # loading itself warns nothing
+    found = bf.budget.evaluate().warnings
+    assert len(found) == 3 and found == bf.budget.estimate_warnings
+    assert any("below the minimum 600 s" in w for w in found)
+    assert any("above the usual range" in w for w in found)
+    assert any("ISO 3104, 7.2" in w for w in found)
+    assert _cli_warnings(tmp_path, capsys, path.read_text(encoding="utf-8")) == list(found)
 
     # a molar mass of 0.01 g/mol is unphysical on purpose: λ ∝ √(T/M) then gives
     # Kn ≈ 0.016 > 0.01 (KNUDSEN_CONTINUUM_LIMIT, common practice) for the example
@@ -275,29 +310,32 @@ def test_test_only_files_trigger_every_context_check(tmp_path: Path, capsys) -> 
         "temperature": {"value": 20.0, "unit": "degC"},
         "molar_mass": {"value": 0.01, "unit": "g/mol"},
     }
-    with pytest.warns(ValidityWarning, match="slip at the wall matters"):
-        bf = loads_budget(_text("gas_capillary", gas), "gas_all_checks.toml")
+    bf = _load(_text("gas_capillary", gas), "gas_all_checks.toml")
     v = _si_estimates(bf)
     lam = fc.mean_free_path(get_method("gas_capillary").value(v), 0.5 * (v["p1"] + v["p2"]),
                             293.15, 1e-5)  # fmt: skip
     kn = fc.knudsen_number(lam, v["r"])
     assert fc.KNUDSEN_CONTINUUM_LIMIT < kn < fc.KNUDSEN_SLIP_LIMIT
-    assert bf.evaluate().warnings == (
+    assert bf.budget.evaluate().warnings == (
         f"Knudsen number {kn:.3g} exceeds 0.01: slip at the wall matters; "
         "use the slip-corrected model (gas_capillary_slip)",
     )
 
 
 def test_checks_change_no_number() -> None:
-    base = loads_budget(_text("glass_capillary_kinetic")).evaluate()
-    with pytest.warns(ValidityWarning):
-        bf = loads_budget(
-            _text("glass_capillary_kinetic", {"minimum_flow_time": {"value": 1, "unit": "h"}})
-        )
-    result = bf.evaluate()
+    base = _load(_text("glass_capillary_kinetic")).budget.evaluate()
+    bf = _load(_text("glass_capillary_kinetic", {"minimum_flow_time": {"value": 1, "unit": "h"}}))
+    result = bf.budget.evaluate()
     assert result.value == base.value
+    assert result.standard_uncertainty == base.standard_uncertainty
     assert result.expanded_uncertainty == base.expanded_uncertainty
     assert result.effective_dof == base.effective_dof
+    assert result.coverage_factor == base.coverage_factor
+    # ... only the warnings (flow time 460 s < 3600 s) and, as part of the budget, the
+    # fingerprint differ
+    assert base.warnings == () and len(result.warnings) == 1
+    assert "below the minimum 3600 s" in result.warnings[0]
+    assert result.fingerprint != base.fingerprint
 
 
 # ----------------------------------------------------------------------------- errors
@@ -386,8 +424,20 @@ standard_uncertainty = 0.1
 [checks]
 minimum_flow_time = { value = 200, unit = "s" }
 """
-    with pytest.raises(BudgetFileError, match=r"f.toml: \[checks\] is only used with a built-in"):
+    # new wording (one budget): the budget refuses a check context for a formula model on
+    # every path; the reader points the message at the file and the table
+    with pytest.raises(
+        BudgetFileError,
+        match=r"^f.toml: \[checks\] a formula model has no validity checks to run; the check "
+        r"context is only used with a built-in viscometer model$",
+    ):
         loads_budget(text, "f.toml")
+    # the same refusal in code
+    with pytest.raises(InputError, match=r"checks: a formula model has no validity checks"):
+        Budget.from_formula(
+            "nu", "C * t", loads_budget(text.split("[checks]")[0]).budget.inputs, "mm^2/s",
+            checks=(Constant("minimum_flow_time", 200.0, "s"),),
+        )  # fmt: skip
 
 
 # ----------------------------------------------------------------------------- dimensionless
@@ -437,14 +487,14 @@ standard_uncertainty = 0.1
 [checks]
 largest_ratio = 500
 """
-    bf = loads_budget(text, "r.toml")
-    assert dict(bf.checks) == {"largest_ratio": 500.0} and bf.warnings == ()
+    bf = _load(text, "r.toml")
+    assert dict(bf.budget.check_context) == {"largest_ratio": 500.0}
+    assert bf.budget.evaluate().warnings == ()
     # a percent is 0.01 (SI Brochure, 9th ed., 5.4.7): 50000 % = 500
-    bf = loads_budget(text.replace("= 500", '= { value = 50000, unit = "percent" }'), "r.toml")
-    assert bf.checks["largest_ratio"] == pytest.approx(500.0, rel=1e-12)
-    with pytest.warns(ValidityWarning, match="t/1 s = 400 exceeds 300"):
-        bf = loads_budget(text.replace("= 500", "= 300"), "r.toml")
-    assert bf.evaluate().warnings == ("t/1 s = 400 exceeds 300",)
+    bf = _load(text.replace("= 500", '= { value = 50000, unit = "percent" }'), "r.toml")
+    assert bf.budget.check_context["largest_ratio"] == pytest.approx(500.0, rel=1e-12)
+    bf = _load(text.replace("= 500", "= 300"), "r.toml")  # no warning while loading
+    assert bf.budget.evaluate().warnings == ("t/1 s = 400 exceeds 300",)
     with pytest.raises(BudgetFileError, match=r"\[checks\] largest_ratio unit 'mm' does not fit"):
         loads_budget(text.replace("= 500", '= { value = 5, unit = "mm" }'), "r.toml")
     with pytest.raises(BudgetFileError, match=r"\[checks\] largest_ratio must be finite"):
@@ -455,11 +505,19 @@ largest_ratio = 500
 @pytest.mark.parametrize("name", WITH_CHECKS)
 def test_save_load_round_trip_keeps_the_checks(name: str, tmp_path: Path) -> None:
     bf = load_budget(EXAMPLES / f"{name}.toml")
-    again = load_budget(save_budget(bf, tmp_path / f"{name}.toml"))
-    assert dict(again.checks) == dict(bf.checks)
-    assert dict(again.document["checks"]) == dict(bf.document["checks"])
-    assert again.fingerprint == bf.fingerprint
-    assert again.evaluate().value == bf.evaluate().value
+    path = save_budget(bf, tmp_path / f"{name}.toml")
+    again = load_budget(path)
+    assert again.budget.checks == bf.budget.checks
+    assert dict(again.budget.check_context) == dict(bf.budget.check_context)
+    # the written [checks] table is the example's, key for key (values, units, sources)
+    original = tomllib.loads((EXAMPLES / f"{name}.toml").read_text(encoding="utf-8"))["checks"]
+    assert tomllib.loads(path.read_text(encoding="utf-8"))["checks"] == original
+    assert budget_to_document(again.budget)["checks"] == budget_to_document(bf.budget)["checks"]
+    assert again.fingerprint == bf.fingerprint == bf.recorded.fingerprint
+    assert again.budget.evaluate().value == bf.budget.evaluate().value
+    # writing it again gives identical text
+    second = save_budget(again, tmp_path / "second.toml")
+    assert second.read_text(encoding="utf-8") == path.read_text(encoding="utf-8")
 
 
 def test_round_trip_with_warnings(tmp_path: Path) -> None:
@@ -467,28 +525,46 @@ def test_round_trip_with_warnings(tmp_path: Path) -> None:
         "g_calibration": {"value": 981.0, "unit": "cm/s^2", "source": "certificate (invented)"},
         "g_local": {"value": 9.79, "unit": "m/s^2"},
     }
-    with pytest.warns(ValidityWarning, match="ISO 3104, 7.2"):
-        bf = loads_budget(_text("glass_capillary_kinetic", checks), "w.toml")
+    bf = _load(_text("glass_capillary_kinetic", checks), "w.toml")
+    found = bf.budget.evaluate().warnings
+    assert len(found) == 1 and "ISO 3104, 7.2" in found[0]
     path = save_budget(bf, tmp_path / "w.toml")
     assert tomllib.loads(path.read_text(encoding="utf-8"))["checks"] == checks
-    with pytest.warns(ValidityWarning, match="ISO 3104, 7.2"):
-        again = load_budget(path)
-    assert dict(again.checks) == dict(bf.checks)
-    assert again.warnings == bf.warnings and again.evaluate().warnings == bf.evaluate().warnings
+    again = _load(path.read_text(encoding="utf-8"), str(path))
+    assert again.budget.checks == bf.budget.checks
+    assert dict(again.budget.check_context) == dict(bf.budget.check_context)
+    assert again.budget.estimate_warnings == bf.budget.estimate_warnings
+    assert again.budget.evaluate().warnings == found
+    assert again.fingerprint == bf.fingerprint
 
 
 # ----------------------------------------------------------------------------- fingerprint
+# Before the one-budget refactoring the [checks] table was outside the fingerprint, and this
+# test checked that adding or removing it left a recorded fingerprint valid. The fingerprint
+# is now that of the Budget, and the check context is part of the budget (it decides its
+# warnings), so the opposite holds: adding, removing or changing a [checks] entry changes the
+# fingerprint, and a record is tied to the context it was checked with.
 @pytest.mark.parametrize("name", list(METHODS))
-def test_fingerprint_unchanged_by_adding_or_removing_checks(name: str) -> None:
+def test_fingerprint_changes_when_checks_are_added_or_removed(name: str) -> None:
     method = get_method(name)
+    as_recorded = tomllib.loads((EXAMPLES / f"{name}.toml").read_text(encoding="utf-8"))
+    recorded = as_recorded["recorded"]["fingerprint"]
+    # the example as it is (with or without its [checks] table) matches its record
+    assert loads_budget(dumps_budget(as_recorded)).fingerprint == recorded
     without = _doc(name)
-    recorded = without["recorded"]["fingerprint"]
-    assert fingerprint(without) == recorded
-    assert loads_budget(dumps_budget(without)).fingerprint == recorded
+    without_fp = loads_budget(dumps_budget(without)).fingerprint
+    assert canonical_form(loads_budget(dumps_budget(without)).budget)["checks"] == {}
+    if "checks" in as_recorded:
+        assert without_fp != recorded  # taking the table out changes the fingerprint
+    else:
+        assert without_fp == recorded
     if method.context_keys:
         key = next(iter(method.context_keys))
         spec, _ = CONVERSIONS[key]
-        with_checks = _doc(name, {key: spec})
-        assert "checks" not in canonical_json(with_checks)
-        assert canonical_json(with_checks) == canonical_json(without)
-        assert loads_budget(dumps_budget(with_checks)).fingerprint == recorded
+        with_checks = loads_budget(dumps_budget(_doc(name, {key: spec}))).budget
+        assert key in canonical_form(with_checks)["checks"]
+        assert with_checks.fingerprint != without_fp  # putting a table in changes it too
+        # ... and so does any change of its number
+        changed = dict(spec, value=spec["value"] * 2)
+        other = loads_budget(dumps_budget(_doc(name, {key: changed}))).budget
+        assert other.fingerprint not in (with_checks.fingerprint, without_fp)

@@ -2,25 +2,29 @@
 
 Expected values here are exact analytic cases (y = a + b, y = 2x) or recomputations with
 the engine's own constructors; no external check values are used.
+
+A :class:`~viscometry.io.BudgetFile` is only ``(budget, recorded, source)``: the title,
+rounding, model, check context, warnings and evaluation all come from its
+:class:`~viscometry.gum.Budget`. Loading emits no Python warning (pytest runs with warnings
+as errors); the budget's findings are strings in ``result.warnings``.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import os
-import sys
-import types
+import tomllib
 
 import pytest
 import sympy as sp
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import viscometry
-from viscometry.errors import BudgetFileError, ValidityWarning, ViscometryWarning
+import viscometry.methods as methods_pkg
+from viscometry.errors import BudgetFileError
 from viscometry.gum import Budget, Constant, Correlation, InputQuantity
-from viscometry.io import atomic as atomic_mod
-from viscometry.io.budget_file import (
+from viscometry.io import (
     MAX_FILE_BYTES,
     BudgetFile,
     budget_to_document,
@@ -29,6 +33,10 @@ from viscometry.io.budget_file import (
     loads_budget,
     save_budget,
 )
+from viscometry.io import atomic as atomic_mod
+from viscometry.methods import Method
+from viscometry.methods.base import symbols
+from viscometry.text import statement
 
 BASE = """
 format = "viscometry-budget/1"
@@ -55,14 +63,17 @@ def with_input(extra: str, base: str = BASE) -> str:
 def test_minimal_budget_exact():
     # Exact: y = a + b, u = sqrt(0.3² + 0.4²) = 0.5 (common practice, no source)
     bf = loads_budget(BASE, "base.toml")
-    r = bf.evaluate()
+    r = bf.budget.evaluate()
     assert r.value == 3.0
     assert r.standard_uncertainty == pytest.approx(0.5, rel=1e-15)
-    assert bf.title == "test"
+    assert bf.budget.title == "test"
     assert bf.source == "base.toml"
     assert bf.fingerprint.startswith("sha256:") and len(bf.fingerprint) == 7 + 64
+    assert bf.fingerprint == bf.budget.fingerprint == r.fingerprint
     assert bf.recorded is None
-    assert bf.rounding == "nearest"
+    assert bf.budget.rounding == "nearest" and r.rounding == "nearest"
+    assert bf.budget.method is None and bf.budget.checks == ()
+    assert r.warnings == ()
 
 
 def _single(spec: str, unit: str = "mm") -> InputQuantity:
@@ -119,7 +130,7 @@ value = 20.0
 unit = "degC"
 standard_uncertainty = 0.1
 """
-    r = loads_budget(text).evaluate()
+    r = loads_budget(text).budget.evaluate()
     assert r.value == pytest.approx(293.15, abs=1e-12)
     assert r.standard_uncertainty == pytest.approx(0.1, rel=1e-12)
 
@@ -134,12 +145,25 @@ def test_recorded_table_is_read():
     rec = bf.recorded
     assert (rec.value, rec.expanded_uncertainty, rec.coverage_factor) == (3.0, 1.0, 2.0)
     assert rec.fingerprint == "sha256:00" and rec.date == "2024-05-01"
+    assert rec.propagation is None
+
+
+def test_recorded_propagation_is_read():
+    # [recorded] method was renamed propagation (like BudgetResult.propagation)
+    for value in ("first-order", "higher-order"):
+        bf = loads_budget(
+            with_input(
+                f'[recorded]\nvalue = 3.0\nexpanded_uncertainty = 1.0\npropagation = "{value}"'
+            )
+        )
+        assert bf.recorded.propagation == value
 
 
 def test_settings_are_used():
     text = BASE.replace('model = "a + b"', 'model = "a + b"\ncoverage_factor = 3\nrounding = "up"')
     bf = loads_budget(text)
-    r = bf.evaluate()
+    r = bf.budget.evaluate()
+    assert bf.budget.coverage_factor == 3.0 and bf.budget.rounding == "up"
     assert r.coverage_factor == 3.0 and r.rounding == "up"
     assert r.expanded_uncertainty == pytest.approx(1.5)
 
@@ -234,6 +258,21 @@ ERRORS = [
         ["correlations[0]", "sign"],
     ),
     (
+        "recorded method renamed",
+        BASE + '\n[recorded]\nvalue = 3.0\nexpanded_uncertainty = 1.0\nmethod = "first-order"\n',
+        ["[recorded]", "key 'method' is now called 'propagation'"],
+    ),
+    (
+        "recorded propagation unknown",
+        BASE + '\n[recorded]\nvalue = 3.0\nexpanded_uncertainty = 1.0\npropagation = "mc"\n',
+        ["[recorded]", "propagation must be 'first-order' or 'higher-order'", "'mc'"],
+    ),
+    (
+        "checks with a formula model",
+        BASE + '\n[checks]\nflow_volume = { value = 4.0, unit = "mL" }\n',
+        ["[checks]", "a formula model has no validity checks to run"],
+    ),
+    (
         "unknown recorded key",
         BASE + "\n[recorded]\nvalue = 3.0\nexpanded_uncertainty = 1.0\nmood = 1\n",
         ["[recorded]", "mood"],
@@ -311,36 +350,49 @@ def test_non_utf8_and_oversized_and_missing_files(tmp_path):
         load_budget(tmp_path)
 
 
-def test_unused_input_warns_and_is_in_result_warnings():
+def test_unused_input_is_a_note_of_the_evaluation_not_a_load_warning():
+    # Loading no longer warns (pytest runs with warnings as errors, so a warning here would
+    # fail the test); the note comes with the evaluation, for every path alike.
     text = BASE + '\n[inputs.c]\nvalue = 1.0\nunit = "mm"\nstandard_uncertainty = 0.1\n'
-    with pytest.warns(ViscometryWarning, match=r"\[inputs.c\] is not used by the model"):
-        bf = loads_budget(text, "unused.toml")
-    r = bf.evaluate()
-    assert any("[inputs.c] is not used" in w for w in r.warnings)
+    bf = loads_budget(text, "unused.toml")
+    note = "input c is not used by the model; its sensitivity coefficient is zero"
+    assert bf.budget.estimate_warnings == (note,)
+    r = bf.budget.evaluate()
+    assert r.warnings == (note,)
     assert r.contribution("c").sensitivity == 0.0
 
 
 # ----------------------------------------------------------------------------- methods
-def test_method_from_the_methods_layer(monkeypatch):
-    """A built-in method supplies the expression; its check() warnings are passed on."""
-    C, t = sp.Symbol("C", real=True), sp.Symbol("t", real=True)
+def _fake_method() -> Method:
+    """A test-only built-in model nu = C t whose check flags a flow time below 200 s."""
+    c, t = symbols("C t")
 
-    class FakeMethod:
-        expression = C * t
-        input_names = ("C", "t")
-        constant_names = ()
-        input_units = {"C": "m^2/s^2", "t": "s"}
-        output_unit = "m^2/s"
+    def checker(method: Method, values: dict[str, float]) -> list[str]:
+        return [f"flow time {values['t']:.0f} s is short"] if values["t"] < 200 else []
 
-        def check(self, values):
-            return [f"flow time {values['t']:.0f} s is short"] if values["t"] < 200 else []
-
-    fake = types.ModuleType("viscometry.methods")
-    fake.get_method = lambda name: (
-        FakeMethod() if name == "fake" else (_ for _ in ()).throw(KeyError(name))
+    return Method(
+        name="fake",
+        title="test only",
+        expression=c * t,
+        input_names=("C", "t"),
+        input_units={"C": "m^2/s^2", "t": "s"},
+        input_descriptions={"C": "viscometer_constant", "t": "flow_time"},
+        output_name="nu",
+        output_unit="m^2/s",
+        references=("none (test only)",),
+        validity="test only",
+        checker=checker,
     )
-    monkeypatch.setitem(sys.modules, "viscometry.methods", fake)
-    monkeypatch.setattr(viscometry, "methods", fake, raising=False)
+
+
+def test_method_from_the_methods_layer(monkeypatch):
+    """A built-in method supplies the expression; its check() warnings are passed on to the
+    evaluation (not emitted while loading)."""
+    fake = _fake_method()
+    original = methods_pkg.get_method
+    monkeypatch.setattr(
+        methods_pkg, "get_method", lambda name: fake if name == "fake" else original(name)
+    )
     text = """
 format = "viscometry-budget/1"
 [measurand]
@@ -356,11 +408,12 @@ value = 150.0
 unit = "s"
 standard_uncertainty = 0.1
 """
-    with pytest.warns(ValidityWarning, match="flow time 150 s is short"):
-        bf = loads_budget(text, "m.toml")
-    r = bf.evaluate()
+    bf = loads_budget(text, "m.toml")  # no warning while loading
+    r = bf.budget.evaluate()
     assert r.value == pytest.approx(15.0)  # exact: 0.1 mm²/s² × 150 s
-    assert bf.method == "fake" and "flow time 150 s is short" in r.warnings
+    assert bf.budget.method is fake and bf.budget.method.name == "fake"
+    assert r.warnings == ("flow time 150 s is short",)
+    assert bf.budget.estimate_warnings == ("flow time 150 s is short",)
     with pytest.raises(BudgetFileError, match=r"\[inputs.t\] unit 'mm'.*method 'fake'"):
         loads_budget(
             text.replace('value = 150.0\nunit = "s"', 'value = 150.0\nunit = "mm"'), "m.toml"
@@ -379,7 +432,9 @@ def _results_equal(r1, r2):
         math.isnan(r1.effective_dof) and math.isnan(r2.effective_dof)
     )
     assert r1.expanded_uncertainty == r2.expanded_uncertainty
-    assert r1.statement() == r2.statement()
+    assert r1.rounding == r2.rounding and r1.fingerprint == r2.fingerprint
+    assert statement(r1) == statement(r2)
+    assert r1.warnings == r2.warnings
     for a, b in zip(r1.contributions, r2.contributions, strict=True):
         assert (a.name, a.value, a.standard_uncertainty, a.dof, a.distribution, a.evaluation) == (
             b.name,
@@ -392,14 +447,42 @@ def _results_equal(r1, r2):
         assert a.sensitivity == b.sensitivity
 
 
+def _round_trip(budget: Budget, folder) -> BudgetFile:
+    """file → Budget → file: the budget written, read, written again. The second write
+    gives identical text and the same fingerprint (the round-trip promise of io.writer)."""
+    first = save_budget(budget, folder / "first.toml")
+    again = load_budget(first)
+    second = save_budget(again, folder / "second.toml")
+    assert second.read_text(encoding="utf-8") == first.read_text(encoding="utf-8")
+    assert again.fingerprint == budget.fingerprint == load_budget(second).fingerprint
+    return again
+
+
 def test_save_budget_file_round_trip_keeps_document_and_fingerprint(tmp_path):
     text = BASE + '\n[[correlations]]\nbetween = ["a", "b"]\ncoefficient = 0.25\n'
     bf = loads_budget(text)
     p = save_budget(bf, tmp_path / "out.toml")
     again = load_budget(p)
     assert again.fingerprint == bf.fingerprint
-    assert dict(again.document["inputs"]["a"]) == dict(bf.document["inputs"]["a"])
-    _results_equal(bf.evaluate(), again.evaluate())
+    # the written file states the same tables as the one read (the title too)
+    written, read = tomllib.loads(p.read_text(encoding="utf-8")), tomllib.loads(text)
+    assert written["inputs"] == read["inputs"]
+    assert written["measurand"] == read["measurand"]
+    assert written["correlations"] == read["correlations"] and written["title"] == "test"
+    assert budget_to_document(again.budget) == budget_to_document(bf.budget)
+    _results_equal(bf.budget.evaluate(), again.budget.evaluate())
+    _round_trip(bf.budget, tmp_path)
+
+
+def test_save_writes_the_recorded_table_of_a_budget_file(tmp_path):
+    text = with_input(
+        "[recorded]\nvalue = 3.0\nexpanded_uncertainty = 1.0\ncoverage_factor = 2.0\n"
+        'propagation = "higher-order"\nfingerprint = "sha256:00"'
+    )
+    bf = loads_budget(text)
+    again = load_budget(save_budget(bf, tmp_path / "rec.toml"))
+    assert again.recorded == bf.recorded and again.recorded.propagation == "higher-order"
+    assert "method" not in tomllib.loads((tmp_path / "rec.toml").read_text())["recorded"]
 
 
 def test_save_plain_budget_with_every_input_kind(tmp_path):
@@ -426,12 +509,25 @@ def test_save_plain_budget_with_every_input_kind(tmp_path):
         coverage_factor=2.0,
         title="all kinds",
     )
-    p = save_budget(b, tmp_path / "all.toml", rounding="ea-4/02")
+    b = b.with_settings(rounding="ea-4/02")  # the rounding belongs to the budget
+    p = save_budget(b, tmp_path / "all.toml")
     again = load_budget(p)
-    assert again.rounding == "ea-4/02" and again.title == "all kinds"
+    assert again.budget.rounding == "ea-4/02" and again.budget.title == "all kinds"
     assert again.budget.inputs == b.inputs
-    _results_equal(b.evaluate(rounding="ea-4/02"), again.evaluate())
+    assert again.budget.constants == b.constants
+    assert again.budget.correlations == b.correlations
+    _results_equal(b.evaluate(), again.budget.evaluate())
     assert again.budget.input("t2").evaluation == "A"
+    # each input is written in the form its uncertainty was stated in
+    written = tomllib.loads(p.read_text(encoding="utf-8"))["inputs"]
+    assert written["C"]["expanded_uncertainty"] == 0.0003
+    assert written["C"]["coverage_probability"] == 0.95 and written["C"]["dof"] == 30
+    assert written["t"]["readings"] == [412.31, 412.45, 412.28, 412.40]
+    assert written["t2"]["pooled_standard_deviation"] == 0.07
+    assert (written["E"]["distribution"], written["E"]["half_width"]) == ("rectangular", 2.0)
+    assert written["z"]["beta"] == 0.3 and written["T"]["distribution"] == "arcsine"
+    assert written["t"]["description"] == 'quote " and \\ back'
+    _round_trip(b, tmp_path)
 
 
 def test_save_model_without_formula_text(tmp_path):
@@ -441,7 +537,21 @@ def test_save_model_without_formula_text(tmp_path):
     model = MeasurementModel(sp.exp(x) + sp.Abs(x) * sp.pi + sp.Float(0.1) * x, ("x",), (), "y")
     b = Budget(model, (InputQuantity.normal("x", 0.5, 0.01),), "")
     again = load_budget(save_budget(b, tmp_path / "m.toml"))
-    assert again.evaluate().value == b.evaluate().value
+    assert again.budget.evaluate().value == b.evaluate().value
+    assert sp.simplify(again.budget.model.expression - model.expression) == 0
+
+
+def test_model_without_formula_text_keeps_its_fingerprint_through_a_file(tmp_path):
+    # The same budget built in code or read from a file has the same fingerprint, also when
+    # the code builds the sympy expression itself: sp.Float(0.1) (53-bit precision) and the
+    # parser's "0.1" (sp.Float(0.1, 17), 60-bit) are the same double, so the same number.
+    from viscometry.gum import MeasurementModel
+
+    x = sp.Symbol("x", real=True)
+    model = MeasurementModel(sp.exp(x) + sp.Abs(x) * sp.pi + sp.Float(0.1) * x, ("x",), (), "y")
+    b = Budget(model, (InputQuantity.normal("x", 0.5, 0.01),), "")
+    again = load_budget(save_budget(b, tmp_path / "m.toml"))
+    assert again.fingerprint == b.fingerprint
 
 
 def test_atomic_write_keeps_old_file_on_failure(tmp_path, monkeypatch):
@@ -475,16 +585,25 @@ def test_dumps_escapes_and_special_floats():
         )
     )
     text = dumps_budget(doc)
-    assert loads_budget(text).title == 'tab\there "q" \\ é'
+    assert loads_budget(text).budget.title == 'tab\there "q" \\ é'
 
 
 def test_budget_file_is_frozen():
     bf = loads_budget(BASE)
-    with pytest.raises(AttributeError):
-        bf.title = "x"  # type: ignore[misc]
-    with pytest.raises(TypeError):
-        bf.document["inputs"]["a"]["value"] = 5.0  # type: ignore[index]
     assert isinstance(bf, BudgetFile)
+    # a BudgetFile is only (budget, recorded, source); everything else comes from the budget
+    assert [f.name for f in dataclasses.fields(BudgetFile)] == ["budget", "recorded", "source"]
+    with pytest.raises(AttributeError):
+        bf.budget = bf.budget  # type: ignore[misc]
+    with pytest.raises(AttributeError):
+        bf.budget.title = "x"  # type: ignore[misc]
+    with pytest.raises(AttributeError):
+        bf.budget.inputs[0].value = 5.0  # type: ignore[misc]
+    # the document of a budget is a fresh copy: editing it changes nothing in the budget
+    doc = budget_to_document(bf.budget)
+    doc["inputs"]["a"]["value"] = 5.0
+    assert bf.budget.input("a").value == 1.0
+    assert budget_to_document(bf.budget)["inputs"]["a"]["value"] == 1.0
 
 
 # ----------------------------------------------------------------------------- property test
@@ -532,10 +651,11 @@ def _inputs(draw):
 )
 @given(inputs=_inputs(), p=st.floats(min_value=0.5, max_value=0.999))
 def test_round_trip_generated_budgets(tmp_path, inputs, p):
-    """Write → load → identical results, for generated linear budgets."""
+    """Write → load → identical results, same fingerprint, identical text on a second write,
+    for generated linear budgets."""
     formula = " + ".join(q.name for q in inputs)
     b = Budget.from_formula("y", formula, inputs, "m", coverage_probability=p)
-    again = load_budget(save_budget(b, tmp_path / "gen.toml"))
+    again = _round_trip(b, tmp_path)
     assert again.budget.inputs == b.inputs
     assert again.budget.coverage_probability == b.coverage_probability
-    _results_equal(b.evaluate(), again.evaluate())
+    _results_equal(b.evaluate(), again.budget.evaluate())

@@ -1,21 +1,26 @@
 """The command line: JSON keys, exit codes, error lines, audit verdicts, demo, help.
 
-Exact analytic budgets only (y = a + b with u = 0.5); no external check values.
+Exact analytic budgets only (y = a + b with u = 0.5); no external check values, except the
+flow-time limit of the glass-viscometer budget at the end (its source is named beside it).
+That last section checks "one budget, one path": the same budget file gives the same
+warnings on every path that evaluates it (each command, the library, the linearised budget).
 """
 
 from __future__ import annotations
 
 import json
 import os
+import re
 import subprocess
 import sys
 from pathlib import Path
+from typing import Any
 
 import pytest
 
 from viscometry import __version__
 from viscometry.cli import main
-from viscometry.io.budget_file import load_budget
+from viscometry.io import load_budget, loads_budget
 from viscometry.io.json_out import INPUT_KEYS, RESULT_KEYS, dumps
 
 REPO = Path(__file__).resolve().parents[1]
@@ -46,11 +51,12 @@ def budget(tmp_path: Path) -> Path:
 def _recorded(path: Path) -> Path:
     """Append a [recorded] table computed now (a regression value by construction)."""
     bf = load_budget(path)
-    r = bf.evaluate().rounded()
+    result = bf.budget.evaluate()
+    r = result.rounded()
     path.write_text(
         path.read_text()
         + f"\n[recorded]\nvalue = {r.value}\nexpanded_uncertainty = {r.uncertainty}\n"
-        f'coverage_factor = {bf.evaluate().coverage_factor:.2f}\nfingerprint = "{bf.fingerprint}"\n'
+        f'coverage_factor = {result.coverage_factor:.2f}\nfingerprint = "{bf.fingerprint}"\n'
     )
     return path
 
@@ -66,19 +72,22 @@ def test_evaluate_text(budget, capsys):
 def test_evaluate_json_has_exactly_the_documented_keys(budget, capsys):
     assert main(["evaluate", "--json", str(budget)]) == 0
     d = json.loads(capsys.readouterr().out)
-    assert tuple(d) == RESULT_KEYS
+    # the command line adds the file it read ("source") after the result's keys
+    assert tuple(d) == (*RESULT_KEYS, "source")
     assert set(RESULT_KEYS) == {
-        "measurand", "unit", "value", "standard_uncertainty", "effective_dof",
+        "schema", "measurand", "unit", "value", "standard_uncertainty", "effective_dof",
         "coverage_probability", "coverage_factor", "expanded_uncertainty",
-        "relative_expanded_uncertainty", "statement", "method", "inputs", "warnings",
+        "relative_expanded_uncertainty", "statement", "propagation", "inputs", "warnings",
         "fingerprint", "version",
     }  # fmt: skip
+    assert d["schema"] == "viscometry.evaluate/1"
+    assert d["source"] == str(budget)
     for row in d["inputs"]:
         assert tuple(row) == INPUT_KEYS
     rows = {r["name"]: r for r in d["inputs"]}
     assert rows["a"]["evaluation"] == "B" and rows["a"]["dof"] == "inf"
     assert rows["b"]["evaluation"] == "A" and rows["b"]["dof"] == 3
-    assert d["measurand"] == "y" and d["unit"] == "mm" and d["method"] == "first-order"
+    assert d["measurand"] == "y" and d["unit"] == "mm" and d["propagation"] == "first-order"
     assert d["value"] == pytest.approx(3.0)
     assert isinstance(d["effective_dof"], float)
     assert d["fingerprint"] == load_budget(budget).fingerprint
@@ -97,13 +106,19 @@ def test_evaluate_json_infinite_dof_and_warnings(tmp_path, capsys):
     d = json.loads(captured.out)
     assert d["effective_dof"] == "inf"
     assert d["standard_uncertainty"] == pytest.approx(0.5)  # exact: sqrt(0.3² + 0.4²)
-    assert any("[inputs.c] is not used" in w for w in d["warnings"])
-    assert "viscometry: warning:" in captured.err and "[inputs.c]" in captured.err
+    unused = "input c is not used by the model; its sensitivity coefficient is zero"
+    assert d["warnings"] == [unused]
+    # warnings travel with the result (JSON list, "warning:" lines of the text), not on stderr
+    assert captured.err == ""
+    assert main(["evaluate", str(p)]) == 0
+    captured = capsys.readouterr()
+    assert f"warning: {unused}" in captured.out.splitlines()
+    assert captured.err == ""
 
 
 def test_evaluate_higher_order_flag(budget, capsys):
     assert main(["evaluate", "--json", "--higher-order", str(budget)]) == 0
-    assert json.loads(capsys.readouterr().out)["method"] == "higher-order"
+    assert json.loads(capsys.readouterr().out)["propagation"] == "higher-order"
 
 
 def test_error_is_one_line_exit_2_and_debug_shows_traceback(tmp_path, capsys):
@@ -142,6 +157,7 @@ def test_version_and_help(capsys):
         "evaluate": ["--json", "--higher-order"],
         "audit": ["--json", "--strict"],
         "demo": ["FOLDER"],
+        "scope": ["--over", "--from", "--to", "--points", "--log", "--edges", "--json"],
     }.items():
         assert main([sub, "--help"]) == 0
         text = capsys.readouterr().out
@@ -172,7 +188,8 @@ def test_audit_detects_changed_input_that_rounds_away(budget, capsys):
     budget.write_text(budget.read_text().replace("value = 1.0\n", "value = 1.0000001\n", 1))
     assert main(["audit", str(budget)]) == 1
     out = capsys.readouterr().out
-    assert "value recorded" not in out and "no longer matches the inputs" in out
+    assert "value recorded" not in out
+    assert "no longer matches the budget" in out and "the file changed after the result" in out
 
 
 def test_audit_detects_changed_recorded_value(budget, capsys):
@@ -216,6 +233,31 @@ def test_audit_unreadable_and_unrecorded_and_folder(tmp_path, budget, capsys):
     assert "no budget files" in capsys.readouterr().out
 
 
+def test_audit_emptied_budget_file_in_a_folder_is_an_error(tmp_path, budget, capsys):
+    # an emptied budget file is a lost budget: audited and reported, never skipped
+    _recorded(budget)
+    (tmp_path / "emptied.toml").write_text("")
+    assert main(["audit", "--json", str(tmp_path)]) == 2
+    d = json.loads(capsys.readouterr().out)
+    statuses = {Path(v["path"]).name: v["status"] for v in d["verdicts"]}
+    assert statuses == {"emptied.toml": "error", "y.toml": "match"}
+    assert d["exit_code"] == 2
+    assert main(["audit", str(tmp_path)]) == 2
+    out = capsys.readouterr().out
+    assert any(line.startswith("ERROR") and "emptied.toml" in line for line in out.splitlines())
+
+
+def test_old_sweep_command_is_refused(budget, capsys):
+    # "sweep" was renamed "scope"; the old name is an unknown command (usage error, exit 2)
+    argv = ["sweep", str(budget), "--over", "a", "--from", "1", "--to", "2"]
+    assert main(argv) == 2
+    captured = capsys.readouterr()
+    assert captured.out == ""
+    assert "invalid choice: 'sweep'" in captured.err and "scope" in captured.err
+    assert main(["sweep", "--help"]) == 2
+    assert "invalid choice: 'sweep'" in capsys.readouterr().err
+
+
 # ----------------------------------------------------------------------------- demo
 def test_demo_missing_folder_says_so(tmp_path, capsys):
     assert main(["demo", str(tmp_path / "nowhere")]) == 2
@@ -248,3 +290,227 @@ def test_python_dash_m_help_subprocess():
     )
     assert proc.returncode == 0, proc.stderr
     assert "usage: viscometry" in proc.stdout and "evaluate" in proc.stdout
+
+
+# ----------------------------------------------------------------------------- JSON schema
+SNAKE_CASE = re.compile(r"[a-z][a-z0-9]*(?:_[a-z0-9]+)*")
+
+#: A glass-viscometer budget (built-in model) whose flow time, 149.98 s, is below the minimum.
+GLASS_BUDGET = """format = "viscometry-budget/1"
+title = "short flow time"
+[measurand]
+name = "nu"
+unit = "mm^2/s"
+method = "glass_capillary_kinetic"
+[inputs.C]
+value = 0.10012
+unit = "mm^2/s^2"
+expanded_uncertainty = 0.00018
+coverage_factor = 2
+[inputs.t]
+unit = "s"
+readings = [149.82, 150.11, 149.95, 150.04]
+[inputs.E]
+value = 0.0
+unit = "mm^2*s"
+distribution = "rectangular"
+half_width = 2.0
+"""
+GLASS_CANDIDATES = """currency = "EUR"
+[[candidate]]
+name = "timer"
+cost = 100
+[candidate.changes]
+t = 0.01
+"""
+#: The warning every path must give for GLASS_BUDGET. 200 s: minimum flow time of a manually
+#: timed glass capillary viscometer, ISO 3104 / ASTM D445 (from memory); 150 s: the mean of
+#: the readings, 599.92/4 = 149.98 s (exact arithmetic), printed to 4 significant digits.
+FLOW_TIME_WARNING = (
+    "flow time 150 s is below the minimum 200 s (ISO 3104 / ASTM D445, manual timing)"
+)
+
+
+@pytest.fixture
+def glass(tmp_path: Path) -> Path:
+    p = tmp_path / "glass.toml"
+    p.write_text(GLASS_BUDGET, encoding="utf-8")
+    return p
+
+
+@pytest.fixture
+def glass_candidates(tmp_path: Path) -> Path:
+    p = tmp_path / "glass_upgrades.toml"
+    p.write_text(GLASS_CANDIDATES, encoding="utf-8")
+    return p
+
+
+def _not_snake_case(obj: Any, where: str = "") -> list[str]:
+    """Every key (with its path) of a JSON value, at any depth, that is not snake_case."""
+    bad: list[str] = []
+    if isinstance(obj, dict):
+        for key, value in obj.items():
+            if not SNAKE_CASE.fullmatch(key):
+                bad.append(f"{where}/{key}")
+            bad += _not_snake_case(value, f"{where}/{key}")
+    elif isinstance(obj, list):
+        for i, value in enumerate(obj):
+            bad += _not_snake_case(value, f"{where}[{i}]")
+    return bad
+
+
+def _command_json(capsys, argv: list[str]) -> dict[str, Any]:
+    code = main(argv)
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    return json.loads(captured.out)
+
+
+def test_snake_case_walker_finds_nested_keys():
+    # the checker itself: a bad key deep in a list of objects is found, data values are not
+    assert _not_snake_case({"a_b": [{"ok": 1, "Not OK": {"x-y": "Value With Spaces"}}]}) == [
+        "/a_b[0]/Not OK",
+        "/a_b[0]/Not OK/x-y",
+    ]
+    assert _not_snake_case({"schema": "viscometry.x/1", "u2": 1, "d_low": None}) == []
+
+
+@pytest.mark.parametrize(
+    ("kind", "argv"),
+    [
+        ("evaluate", ["evaluate", "--json", "{glass}"]),
+        ("simulate", ["simulate", "--json", "--trials", "10000", "--seed", "1", "{glass}"]),
+        ("plan", ["plan", "--json", "--target", "0.028", "{glass}", "{candidates}"]),
+        ("audit", ["audit", "--json", "{glass}"]),
+        ("methods", ["methods", "--json"]),
+        ("methods", ["methods", "glass_capillary_kinetic", "--json"]),
+        ("decide", ["decide", "--budget", "{glass}", "--lower", "14.9", "--upper", "15.1",
+                    "--json"]),
+        ("score", ["score", "z", "--value", "12.5", "--assigned", "10", "--sigma-pt", "1",
+                   "--json"]),
+    ],
+    ids=["evaluate", "simulate", "plan", "audit", "methods", "methods-one", "decide", "score"],
+)  # fmt: skip
+def test_every_json_output_has_a_schema_and_snake_case_keys(
+    kind, argv, glass, glass_candidates, capsys
+):
+    argv = [a.format(glass=glass, candidates=glass_candidates) for a in argv]
+    d = _command_json(capsys, argv)
+    assert d["schema"] == f"viscometry.{kind}/1"
+    assert _not_snake_case(d) == []
+
+
+POINT_KEYS = [
+    "input_value", "value", "standard_uncertainty", "effective_dof", "coverage_factor",
+    "expanded_uncertainty", "relative_expanded_uncertainty", "dominant", "dominant_share",
+]  # fmt: skip
+
+
+def _scope_json(capsys, glass: Path, *extra: str) -> dict[str, Any]:
+    d = _command_json(capsys, ["scope", "--json", str(glass), "--over", "t", "--from", "200",
+                               "--to", "800", "--points", "4", *extra])  # fmt: skip
+    assert d["schema"] == "viscometry.scope/1"
+    assert d["over"] == "t" and d["measurand"] == "nu"
+    # the point rows have fixed keys: no column is named after an input or the measurand
+    assert [list(row) for row in d["points"]] == [POINT_KEYS] * 4
+    return d
+
+
+def test_the_schema_tests_cover_every_command_with_json_output():
+    import argparse
+
+    from viscometry.cli import build_parser
+
+    parser = build_parser()
+    (sub,) = [a for a in parser._actions if isinstance(a, argparse._SubParsersAction)]
+    with_json = {
+        name for name, p in sub.choices.items()
+        if any("--json" in a.option_strings for a in p._actions)
+    }  # fmt: skip
+    # the parametrised test above, the scope tests below; report writes JSON to a file
+    covered = {"evaluate", "simulate", "plan", "audit", "methods", "decide", "score", "scope"}
+    assert with_json == covered
+    assert set(sub.choices) - with_json == {"demo", "report", "workspace"}
+
+
+def test_scope_json_has_a_schema_and_snake_case_keys(glass, capsys):
+    d = _scope_json(capsys, glass)
+    assert d["scope"] is None
+    assert _not_snake_case(d) == []
+
+
+def test_scope_json_with_a_scope_table_has_snake_case_keys(glass, capsys):
+    d = _scope_json(capsys, glass, "--edges", "20,80")
+    assert [list(row) for row in d["scope"]] == [[
+        "from", "to", "points", "largest_relative_expanded_uncertainty", "at",
+        "stated_relative_expanded_uncertainty",
+    ]]  # fmt: skip
+    assert _not_snake_case(d) == []
+
+
+def test_report_json_has_a_schema_and_snake_case_keys(glass, tmp_path, capsys):
+    out = tmp_path / "r.json"
+    assert main(["report", str(glass), "-o", str(out)]) == 0
+    capsys.readouterr()
+    d = json.loads(out.read_text(encoding="utf-8"))
+    assert d["schema"] == "viscometry.report/1"
+    assert _not_snake_case(d) == []
+
+
+# ----------------------------------------------------------------------------- one budget, one path
+def test_flow_time_warning_evaluate_text(glass, capsys):
+    assert main(["evaluate", str(glass)]) == 0
+    captured = capsys.readouterr()
+    warnings = [line for line in captured.out.splitlines() if line.startswith("warning: ")]
+    assert warnings == [f"warning: {FLOW_TIME_WARNING}"]
+    assert captured.err == ""
+
+
+def test_flow_time_warning_evaluate_json(glass, capsys):
+    assert _command_json(capsys, ["evaluate", "--json", str(glass)])["warnings"] == [
+        FLOW_TIME_WARNING
+    ]
+
+
+def test_flow_time_warning_simulate_json(glass, capsys):
+    d = _command_json(
+        capsys, ["simulate", "--json", "--trials", "10000", "--seed", "1", str(glass)]
+    )
+    assert d["warnings"][0] == FLOW_TIME_WARNING
+    # the rest are about the Monte Carlo run itself (M < 10⁴/(1 − p), JCGM 101:2008, 7.2.2)
+    assert all("JCGM 101:2008, 7.2.2" in w for w in d["warnings"][1:])
+
+
+def test_flow_time_warning_plan_json(glass, glass_candidates, capsys):
+    d = _command_json(capsys, ["plan", "--json", str(glass), str(glass_candidates)])
+    assert d["warnings"] == [FLOW_TIME_WARNING]
+
+
+def test_flow_time_warning_scope_json(glass, capsys):
+    d = _command_json(capsys, ["scope", "--json", str(glass), "--over", "t", "--from", "200",
+                               "--to", "800", "--points", "4"])  # fmt: skip
+    assert d["warnings"] == [FLOW_TIME_WARNING]
+
+
+def test_flow_time_warning_budget_evaluate():
+    budget = loads_budget(GLASS_BUDGET, "glass.toml").budget
+    assert budget.evaluate().warnings == (FLOW_TIME_WARNING,)
+
+
+def test_flow_time_warning_linearised_budget():
+    budget = loads_budget(GLASS_BUDGET, "glass.toml").budget
+    assert budget.linearise().warnings == (FLOW_TIME_WARNING,)
+
+
+def test_flow_time_warning_budget_built_in_code():
+    from viscometry.gum import Budget, InputQuantity
+    from viscometry.methods import get_method
+
+    inputs = [
+        InputQuantity.from_expanded("C", 0.10012, 0.00018, "mm^2/s^2", coverage_factor=2.0),
+        InputQuantity.from_readings("t", [149.82, 150.11, 149.95, 150.04], "s"),
+        InputQuantity.rectangular("E", 0.0, 2.0, "mm^2*s"),
+    ]
+    budget = Budget.from_method(get_method("glass_capillary_kinetic"), inputs, "mm^2/s")
+    assert budget.fingerprint == loads_budget(GLASS_BUDGET, "glass.toml").fingerprint
+    assert budget.evaluate().warnings == (FLOW_TIME_WARNING,)

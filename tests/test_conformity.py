@@ -28,6 +28,7 @@ from viscometry.conformity import (
     guard_band,
 )
 from viscometry.errors import InputError
+from viscometry.text import decision_statement
 
 
 def _quad_pc(y, u, lower, upper, dof=math.inf):
@@ -202,18 +203,45 @@ def test_decision_is_frozen():
 
 
 def test_statement_wording():
-    # Wording of the statement; numbers recomputed: Phi(2) = 97.7 %, 1 - Phi(2) = 2.3 %.
-    d = decide(9.88, 0.06, None, 10.0, rule="guarded", unit="mm²/s")
-    assert d.statement == (
+    # Wording of the statement (viscometry.text.decision_statement; the unit is a text
+    # matter, no longer an argument of decide); numbers recomputed: Phi(2) = 97.7 %,
+    # 1 - Phi(2) = 2.3 %.
+    d = decide(9.88, 0.06, None, 10.0, rule="guarded")
+    assert decision_statement(d, unit="mm²/s") == (
         "Accepted under guarded acceptance (w = 1.0·U = 0.12 mm²/s): the probability that the "
         "true value conforms is 97.7 %; the specific risk of a false accept is 2.3 %."
     )
+    # The pint spelling of the unit prints the same.
+    assert decision_statement(d, unit="mm^2/s") == decision_statement(d, unit="mm²/s")
+    assert decision_statement(d) == (
+        "Accepted under guarded acceptance (w = 1.0·U = 0.12): the probability that the "
+        "true value conforms is 97.7 %; the specific risk of a false accept is 2.3 %."
+    )
     r = decide(11.1, 0.1, 9.0, 11.0)
-    assert r.statement.startswith("Rejected under simple acceptance (w = 0): ")
-    assert "specific risk of a false reject is 15.9 %" in r.statement
+    assert decision_statement(r).startswith("Rejected under simple acceptance (w = 0): ")
+    assert "specific risk of a false reject is 15.9 %" in decision_statement(r)
     far = decide(10.0, 0.01, 9.0, 11.0)
-    assert "conforms is more than 99.9 %" in far.statement
-    assert "false accept is less than 0.1 %" in far.statement
+    assert "conforms is more than 99.9 %" in decision_statement(far)
+    assert "false accept is less than 0.1 %" in decision_statement(far)
+
+
+def test_decision_has_no_text_of_its_own():
+    # One budget, one path: the decision holds numbers; the words come from viscometry.text.
+    d = decide(9.88, 0.06, None, 10.0, rule="guarded")
+    assert not hasattr(d, "statement")
+    with pytest.raises(TypeError, match="unit"):
+        decide(9.88, 0.06, None, 10.0, rule="guarded", unit="mm²/s")  # type: ignore[call-arg]
+
+
+def test_decision_statement_refuses_a_unit_that_is_not_text():
+    # decide(unit=3) used to be refused with an InputError naming the field and the value;
+    # the unit moved to the statement, and so does the refusal (a non-string unit must not
+    # end in an AttributeError from deep inside the unit formatter).
+    d = decide(9.88, 0.06, None, 10.0, rule="guarded")
+    with pytest.raises(InputError) as err:
+        decision_statement(d, unit=3)  # type: ignore[arg-type]
+    assert "unit" in str(err.value)
+    assert "3" in str(err.value)
 
 
 def test_caution_mentions_customer_and_ilac():
@@ -280,7 +308,6 @@ def test_conformance_probability_bad_inputs(kwargs, field, shown):
         ({"rule": "guarded", "guard_factor": math.inf}, "guard_factor", "inf"),
         ({"standard_uncertainty": 0.6, "rule": "guarded"}, "guard band", "1.2"),
         ({"dof": -1}, "dof", "-1"),
-        ({"unit": 3}, "unit", "3"),
     ],
 )
 def test_decide_bad_inputs(kwargs, field, shown):

@@ -6,14 +6,23 @@ from __future__ import annotations
 
 import json
 import math
+import tomllib
 from pathlib import Path
 
 import pytest
 from scipy import stats
 
+from viscometry.audit import audit_file
 from viscometry.cli import main
-from viscometry.commands.audit import audit_file
-from viscometry.io.budget_file import load_budget
+from viscometry.gum.propagation import DEFAULT_COVERAGE_PROBABILITY
+from viscometry.io import (
+    budget_to_document,
+    dumps_budget,
+    is_budget_file,
+    load_budget,
+    loads_budget,
+    save_budget,
+)
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 H1 = EXAMPLES / "reference" / "gum_h1_end_gauge.toml"
@@ -40,7 +49,8 @@ def test_h1_first_order_reproduces_the_published_result(capsys):
     assert round(d["expanded_uncertainty"] * 1e6) == 93
     assert d["value"] == pytest.approx(50.000838, abs=5e-7)
     assert d["coverage_probability"] == 0.99
-    assert d["method"] == "first-order"
+    assert d["propagation"] == "first-order"
+    assert d["schema"] == "viscometry.evaluate/1" and d["source"] == str(H1)
     assert d["fingerprint"] == load_budget(H1).fingerprint
 
 
@@ -61,7 +71,7 @@ def test_h1_higher_order(capsys):
     # JCGM 100:2008, H.1.7 (from memory; recomputed per REFERENCES.md): with the second-order
     # terms of eq. (10), u_c = 34 nm.
     d = _json(capsys, "evaluate", "--json", "--higher-order", str(H1))
-    assert d["method"] == "higher-order"
+    assert d["propagation"] == "higher-order"
     assert round(d["standard_uncertainty"] * 1e6) == 34
     # recomputed: sqrt(u1² + (l_s u(dalpha) u(theta))² + (l_s u(alpha_s) u(dtheta))²)
     first = _json(capsys, "evaluate", "--json", str(H1))["standard_uncertainty"]
@@ -92,7 +102,7 @@ def test_every_example_matches_its_record(path):
 
 def test_poiseuille_radius_has_relative_sensitivity_four():
     # Exact: eta ∝ r⁴, so (r/eta) ∂eta/∂r = 4 (Hagen-Poiseuille law)
-    r = load_budget(EXAMPLES / "primary_capillary_poiseuille.toml").evaluate()
+    r = load_budget(EXAMPLES / "primary_capillary_poiseuille.toml").budget.evaluate()
     assert r.contribution("r").relative_sensitivity == pytest.approx(4.0, rel=1e-12)
     assert r.dominant.name == "r"
 
@@ -117,3 +127,47 @@ def test_demo_runs_every_example_including_reference(capsys, tmp_path):
     assert out.count("Caution:") == 1
     assert "mercury" in out and "local codes" in out
     assert "result: l = (50.000838 ± 0.000093) mm" in out
+
+
+# ----------------------------------------------------------------------------- round trips
+# Every budget file under examples/ (the upgrade-candidates file is another kind of TOML).
+EVERY = sorted(p for p in EXAMPLES.rglob("*.toml") if is_budget_file(p))
+
+
+def test_every_budget_example_is_in_the_round_trip():
+    # the migration guide: `viscometry audit examples/` matches all 20 budget files
+    assert len(EVERY) == 20
+    assert [p.name for p in EXAMPLES.rglob("*.toml") if p not in EVERY] == [
+        "pressure_capillary_upgrades.toml"
+    ]
+
+
+@pytest.mark.parametrize("path", EVERY, ids=lambda p: p.relative_to(EXAMPLES).as_posix())
+def test_file_budget_file_round_trip(path, tmp_path):
+    """file → Budget → file: the same fingerprint (the recorded one), and writing the budget
+    again gives identical text; the written file states the same tables as the example."""
+    bf = load_budget(path)
+    text = dumps_budget(budget_to_document(bf.budget))
+    again = loads_budget(text, "again.toml")
+    assert again.fingerprint == bf.fingerprint == bf.recorded.fingerprint
+    assert dumps_budget(budget_to_document(again.budget)) == text
+    # the same numbers and the same warnings
+    r1, r2 = bf.budget.evaluate(), again.budget.evaluate()
+    assert (r2.value, r2.standard_uncertainty, r2.expanded_uncertainty, r2.effective_dof) == (
+        r1.value, r1.standard_uncertainty, r1.expanded_uncertainty, r1.effective_dof,
+    )  # fmt: skip
+    assert r2.warnings == r1.warnings
+    # the written tables are the example's own (inputs in their stated forms, constants,
+    # correlations, checks with sources, the record); only a setting at its default value
+    # (coverage probability 0.9545) is left out, and comments are not kept
+    original = tomllib.loads(path.read_text(encoding="utf-8"))
+    if original["measurand"].get("coverage_probability") == DEFAULT_COVERAGE_PROBABILITY:
+        del original["measurand"]["coverage_probability"]
+    written = tomllib.loads(dumps_budget(budget_to_document(bf.budget, recorded=bf.recorded)))
+    assert written == original
+    # save_budget (with the [recorded] table and a header) twice: identical files
+    first = save_budget(bf, tmp_path / "first.toml")
+    second = save_budget(load_budget(first), tmp_path / "second.toml")
+    assert second.read_bytes() == first.read_bytes()
+    assert load_budget(second).recorded == bf.recorded
+    assert audit_file(second).status == "match"

@@ -119,3 +119,77 @@ def test_input_is_immutable():
         q.value = 2.0  # type: ignore[misc]
     q2 = q.with_uncertainty(0.05)
     assert q.standard_uncertainty == 0.1 and q2.standard_uncertainty == 0.05
+
+
+def test_inputs_keep_how_their_uncertainty_was_stated():
+    # Each constructor records its form and the numbers as stated (budget-file key names).
+    a = InputQuantity.from_readings("t", [412.31, 412.45, 412.28, 412.40], "s")
+    assert a.form == "readings" and a.readings == (412.31, 412.45, 412.28, 412.40)
+    p = InputQuantity.from_pooled("t", [300.2, 300.4, 300.3], 0.15, 24, "s")
+    assert p.form == "pooled"
+    assert p.stated == (("pooled_standard_deviation", 0.15), ("pooled_dof", 24.0))
+    e = InputQuantity.from_expanded("C", 0.1, 3e-4, coverage_factor=2)
+    assert e.form == "expanded"
+    assert e.stated == (("expanded_uncertainty", 3e-4), ("coverage_factor", 2.0))
+    assert dict(e.statement) == {"expanded_uncertainty": 3e-4, "coverage_factor": 2.0}
+    b = InputQuantity.rectangular("x", lower=4.7, upper=5.3)
+    assert b.form == "bounds"
+    assert b.stated == (("distribution", "rectangular"), ("lower", 4.7), ("upper", 5.3))
+    assert InputQuantity.normal("x", 1.0, 0.1).form == "standard"
+    assert InputQuantity("x", 1.0, 0.1).stated == (("standard_uncertainty", 0.1),)
+
+
+def test_from_standard():
+    # JCGM 100:2008, 4.3: u stated directly; distribution and Type as given; nu from G.4.2.
+    q = InputQuantity.from_standard("E", 0.0, 0.8, "mm^2*s", distribution="rectangular")
+    assert (q.value, q.standard_uncertainty, q.unit) == (0.0, 0.8, "mm^2*s")
+    assert q.distribution == "rectangular" and q.evaluation == "B" and math.isinf(q.dof)
+    assert q.form == "standard"
+    assert q.stated == (("standard_uncertainty", 0.8), ("distribution", "rectangular"))
+    # JCGM 100:2008, G.4.2, eq. (G.3): 25 % relative uncertainty of u gives nu = 8 (exact).
+    r = InputQuantity.from_standard("E", 1.0, 0.1, relative_uncertainty_of_uncertainty=0.25)
+    assert r.dof == pytest.approx(8.0)
+    assert dict(r.statement)["relative_uncertainty_of_uncertainty"] == 0.25
+    t = InputQuantity.from_standard("E", 1.0, 0.1, evaluation="A", dof=9)
+    assert (t.evaluation, t.dof) == ("A", 9.0)
+    with pytest.raises(InputError, match="give dof or relative_uncertainty_of_uncertainty"):
+        InputQuantity.from_standard("E", 1.0, 0.1, dof=9, relative_uncertainty_of_uncertainty=0.25)
+
+
+def test_from_expanded_with_relative_uncertainty_of_uncertainty():
+    # u = U/k (JCGM 100:2008, 4.3.3) and nu = 1/2 (du/u)^-2 = 8 for 25 % (G.4.2) -- exact.
+    q = InputQuantity.from_expanded(
+        "C", 0.1, 3e-4, coverage_factor=2, relative_uncertainty_of_uncertainty=0.25
+    )
+    assert q.standard_uncertainty == pytest.approx(1.5e-4, rel=1e-15)
+    assert q.dof == pytest.approx(8.0)
+    assert q.form == "expanded"
+    assert dict(q.statement) == {
+        "expanded_uncertainty": 3e-4,
+        "coverage_factor": 2.0,
+        "relative_uncertainty_of_uncertainty": 0.25,
+    }
+    # With a coverage probability, the k is t_p(nu) for nu = 8 (JCGM 100:2008, G.3).
+    p = InputQuantity.from_expanded(
+        "C", 0.1, 3e-4, coverage_probability=0.95, relative_uncertainty_of_uncertainty=0.25
+    )
+    assert p.standard_uncertainty == pytest.approx(3e-4 / stats.t.ppf(0.975, 8), rel=1e-12)
+
+
+def test_with_uncertainty_states_the_new_uncertainty_directly():
+    # A what-if copy is in standard form, drops the readings (they no longer give this u)
+    # and keeps the distribution, the degrees of freedom and the type of evaluation.
+    a = InputQuantity.from_readings("t", [1.0, 1.1, 0.9], "s").with_uncertainty(0.01)
+    assert a.form == "standard" and a.readings is None
+    assert (a.standard_uncertainty, a.dof, a.evaluation, a.distribution) == (
+        0.01,
+        2.0,
+        "A",
+        "student_t",
+    )
+    assert dict(a.statement)["standard_uncertainty"] == 0.01
+    e = InputQuantity.from_expanded("C", 0.1, 3e-4, coverage_factor=2).with_uncertainty(1e-4)
+    assert e.form == "standard" and e.stated == (("standard_uncertainty", 1e-4),)
+    r = InputQuantity.rectangular("x", 5.0, 0.3, "K").with_uncertainty(0.1)
+    assert r.distribution == "rectangular"
+    assert r.half_width == pytest.approx(0.1 * math.sqrt(3))  # a = u·√3 (JCGM 100:2008, 4.3.7)

@@ -3,6 +3,7 @@
 import math
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -74,3 +75,87 @@ def test_linear_model_equals_closed_form(coeffs, us, dofs):
     if uc > 0 and np.any(ci != 0):
         nu = uc**4 / float(np.sum(ci**4 / np.array(dofs)))
         assert math.isclose(r.effective_dof, nu, rel_tol=1e-9)
+
+
+# --------------------------------------------------------------------------- one kernel
+# Every path that propagates uncertainty (Budget.evaluate, Budget.linearise, the upgrade
+# planner) must give the u_c, ν_eff, k and U of viscometry.gum.propagation.propagate for the
+# same numbers. The sensitivities below are written out by hand (exact analytic), so the
+# kernel is fed independently of the paths under test.
+def _kernel_budget(**settings):
+    from viscometry.gum import Correlation
+
+    qs = [
+        InputQuantity.normal("C", 0.01, 2e-5, "mm^2/s^2", dof=30),
+        InputQuantity.from_readings("t", [300.1, 300.4, 299.9, 300.2], "s"),
+        InputQuantity.rectangular("d", 0.0, 1e-3),
+    ]
+    return Budget.from_formula(
+        "nu", "C * t * (1 + d)", qs, "mm^2/s", correlations=[Correlation("C", "d", 0.4)], **settings
+    )
+
+
+def _kernel(budget, u):
+    from viscometry.gum.propagation import propagate
+
+    c_val, t_val, d_val = (q.value for q in budget.inputs)
+    grad = np.array([t_val * (1 + d_val), c_val * (1 + d_val), c_val * t_val])  # mm²/s per unit
+    nu = np.array([q.dof for q in budget.inputs])
+    return propagate(
+        grad,
+        np.asarray(u, dtype=float),
+        nu,
+        budget.correlation_matrix,
+        coverage_probability=budget.coverage_probability,
+        coverage_factor=budget.coverage_factor,
+    )
+
+
+def _same(path, kernel):
+    assert math.isclose(
+        path.standard_uncertainty, float(kernel.standard_uncertainty), rel_tol=1e-12
+    )
+    assert math.isclose(path.effective_dof, float(kernel.effective_dof), rel_tol=1e-12)
+    assert math.isclose(path.coverage_factor, float(kernel.coverage_factor), rel_tol=1e-12)
+    assert math.isclose(
+        path.expanded_uncertainty, float(kernel.expanded_uncertainty), rel_tol=1e-12
+    )
+
+
+@pytest.mark.parametrize(
+    "settings",
+    [{}, {"coverage_probability": 0.95}, {"coverage_probability": 0.99}, {"coverage_factor": 2.0}],
+    ids=["default", "p95", "p99", "k2"],
+)
+def test_every_path_uses_the_one_propagation_kernel(settings):
+    from viscometry.planning import UpgradeCandidate, evaluate_upgrades
+
+    b = _kernel_budget(**settings)
+    u0 = [q.standard_uncertainty for q in b.inputs]
+    kernel = _kernel(b, u0)
+    # the budget has finite dofs and a correlation, so ν_eff and R both matter
+    assert math.isfinite(float(kernel.effective_dof)) and b.correlation_matrix is not None
+    full = b.evaluate()
+    lin = b.linearise()
+    _same(full, kernel)
+    _same(lin, kernel)
+    assert full.coverage_probability == lin.coverage_probability
+    candidates = [
+        UpgradeCandidate("better C", 100.0, {"C": 1e-5}),
+        UpgradeCandidate("more readings", 50.0, {"t": 0.02}),
+        UpgradeCandidate("better d", 10.0, {"d": 1e-4}),
+    ]
+    plan = evaluate_upgrades(b, candidates)
+    assert plan.search == "exhaustive" and len(plan.ranked) == 2 ** len(candidates)
+    for option in plan.ranked:
+        changes = {
+            k: v for c in candidates if c.name in option.candidates for k, v in c.changes.items()
+        }
+        u = [changes.get(q.name, q.standard_uncertainty) for q in b.inputs]
+        kern = _kernel(b, u)
+        _same(option, kern)
+        _same(lin.with_uncertainties(changes), kern)
+        again = b
+        for name, value in changes.items():
+            again = again.with_uncertainty(name, value)
+        _same(again.evaluate(), kern)

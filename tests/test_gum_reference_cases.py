@@ -72,7 +72,8 @@ def test_h1_end_gauge_higher_order():
     # JCGM 100:2008, H.1.7: with the second-order terms u_c = 34 nm (33.8 unrounded)
     # (from memory; recomputed per REFERENCES.md).
     r = end_gauge_budget().evaluate(higher_order=True)
-    assert r.method == "higher-order"
+    assert r.propagation == "higher-order"
+    assert end_gauge_budget().evaluate().propagation == "first-order"
     assert r.standard_uncertainty * 1e6 == pytest.approx(33.9, abs=0.15)
     assert round(r.standard_uncertainty * 1e6) == 34
     assert any("higher-order terms change u_c" in w for w in r.warnings)

@@ -29,6 +29,7 @@ from viscometry.gum.montecarlo import (
     run_monte_carlo,
     validate_against,
 )
+from viscometry.text import validation_statement
 
 M = 10**6
 Z975 = float(stats.norm.ppf(0.975))  # 1.959964..., exact normal quantile (scipy)
@@ -92,7 +93,9 @@ def test_additive_model_four_normal_inputs():
     # JCGM 101:2008, 9.2.2 [from memory]: u = 2.00, 95 % interval ±3.92.
     # Recomputed: Y ~ N(0, 4) exactly, so u = 2 and y_high = 2·z₀.₉₇₅ = 3.9199.
     xs = [InputQuantity.normal(f"x{i}", 0.0, 1.0) for i in range(4)]
-    res = run_monte_carlo(_sum, xs, trials=M, seed=20080901)
+    # JCGM 101 states 95 % intervals; the package default is 95.45 %, so p is given.
+    res = run_monte_carlo(_sum, xs, trials=M, seed=20080901, coverage_probability=0.95)
+    assert res.coverage_probability == 0.95
     # SE(u) = u/√(2M) = 0.0014; SE(mean) = 0.002; SE(quantile) ≈ 0.0054 → ~4-5 SE allowed.
     assert res.standard_uncertainty == pytest.approx(2.0, abs=0.007)
     assert res.value == pytest.approx(0.0, abs=0.01)
@@ -110,7 +113,7 @@ def test_additive_model_four_rectangular_inputs_validated():
     exact = _quantile_four_rectangular_sd1(0.975)
     assert exact == pytest.approx(3.88, abs=0.005)
     xs = [_rect(f"x{i}", 1.0) for i in range(4)]
-    res = run_monte_carlo(_sum, xs, trials=M, seed=7)
+    res = run_monte_carlo(_sum, xs, trials=M, seed=7, coverage_probability=0.95)  # JCGM 101: 95 %
     # SE(quantile) = √(p(1−p)/M)/f(y) ≈ 0.0156/... ≈ 0.005 at M = 10⁶ → 0.02 is 4 SE.
     assert res.symmetric_interval[0] == pytest.approx(-exact, abs=0.02)
     assert res.symmetric_interval[1] == pytest.approx(exact, abs=0.02)
@@ -123,7 +126,9 @@ def test_additive_model_four_rectangular_inputs_validated():
     assert check.d_low == pytest.approx(2 * Z975 - exact, abs=0.02)
     assert check.d_high == pytest.approx(2 * Z975 - exact, abs=0.02)
     assert check.validated
-    assert check.statement.startswith("first-order budget validated at δ = 0.05 (d_low = 0.0")
+    assert validation_statement(check).startswith(
+        "first-order budget validated at δ = 0.05 (d_low = 0.0"
+    )
 
 
 def test_additive_model_one_dominant_rectangular_not_validated():
@@ -132,7 +137,7 @@ def test_additive_model_one_dominant_rectangular_not_validated():
     exact = _quantile_three_sd1_one_sd10(0.975)
     assert exact == pytest.approx(17.0, abs=0.05)
     xs = [_rect("x1", 1.0), _rect("x2", 1.0), _rect("x3", 1.0), _rect("x4", 10.0)]
-    res = run_monte_carlo(_sum, xs, trials=M, seed=11)
+    res = run_monte_carlo(_sum, xs, trials=M, seed=11, coverage_probability=0.95)  # JCGM 101: 95 %
     # SE(u) ≈ u·√((κ−1)/(4M)) ≈ 0.005 (κ ≈ 1.9); SE(quantile) ≈ 0.006 → ~4 SE allowed.
     assert res.standard_uncertainty == pytest.approx(math.sqrt(103.0), abs=0.02)
     assert round(res.standard_uncertainty, 2) == pytest.approx(10.15, abs=0.01)
@@ -144,7 +149,7 @@ def test_additive_model_one_dominant_rectangular_not_validated():
     assert check.tolerance == pytest.approx(0.5)  # u = 10 (2 digits) → δ = ½ × 10⁰
     assert check.d_high == pytest.approx(first_order - exact, abs=0.03)  # ≈ 2.9
     assert not check.validated
-    assert "not validated" in check.statement
+    assert "not validated" in validation_statement(check)
 
 
 # ---------------------------------------------------------------- exact analytic cases
@@ -153,7 +158,7 @@ def test_sum_of_two_rectangulars_is_triangular():
     # (2a − y)²/(8a²) = 0.025 gives the symmetric 95 % interval ±2a(1 − √0.05).
     a = 1.5
     xs = [InputQuantity.rectangular("x1", 0.0, a), InputQuantity.rectangular("x2", 0.0, a)]
-    res = run_monte_carlo(_sum, xs, trials=M, seed=3)
+    res = run_monte_carlo(_sum, xs, trials=M, seed=3, coverage_probability=0.95)
     half = 2 * a * (1 - math.sqrt(0.05))
     # SE(quantile) = √(0.025·0.975/M)/f(y) with f(y) = √0.05/(2a) → 7e-4·2a ≈ 0.002.
     assert res.symmetric_interval[0] == pytest.approx(-half, abs=0.008)
@@ -293,7 +298,9 @@ def test_shortest_interval_of_a_lognormal_output():
     # Y = exp(X), X ~ N(0, 0.5): lognormal, right-skewed. Exact shortest 95 % interval:
     # minimise F⁻¹(α + p) − F⁻¹(α) over α (scipy), recomputed independently.
     sigma = 0.5
-    res = run_monte_carlo(np.exp, [InputQuantity.normal("x", 0.0, sigma)], trials=M, seed=9)
+    res = run_monte_carlo(
+        np.exp, [InputQuantity.normal("x", 0.0, sigma)], trials=M, seed=9, coverage_probability=0.95
+    )
     dist = stats.lognorm(s=sigma)
     opt = optimize.minimize_scalar(
         lambda al: dist.ppf(al + 0.95) - dist.ppf(al), bounds=(1e-9, 0.05 - 1e-9), method="bounded"
@@ -466,3 +473,23 @@ def test_run_monte_carlo_input_checks(kwargs, match):
 def test_adaptive_rejects_unknown_interval_kind():
     with pytest.raises(InputError, match="interval must be 'symmetric' or 'shortest', got 'wide'"):
         run_adaptive(lambda x: x, [InputQuantity.normal("x", 0.0, 1.0)], interval="wide")
+
+
+# ---------------------------------------------------------------- default coverage probability
+def test_default_coverage_probability_is_95_45_percent_for_every_run():
+    # The package's one default p = 0.9545 (k = 2 for a normal; JCGM 100:2008, 6.3.3), also
+    # for Monte Carlo. Y = X₁+…+X₄ with N(0, 1) inputs is N(0, 4) exactly (exact analytic),
+    # so the default interval is ±2·z₀.₉₇₇₂₅ = ±3.99996, not the ±3.92 of a 95 % run.
+    xs = [InputQuantity.normal(f"x{i}", 0.0, 1.0) for i in range(4)]
+    half = 2.0 * float(stats.norm.ppf(0.5 * (1 + 0.9545)))
+    assert half == pytest.approx(4.0, abs=1e-3)
+    res = run_monte_carlo(_sum, xs, trials=M, seed=20080901)
+    assert res.coverage_probability == 0.9545
+    # SE of a 97.7 % quantile of N(0, 4) at M = 10⁶ ≈ 0.0057 → 0.025 is ~4 SE.
+    assert res.symmetric_interval[0] == pytest.approx(-half, abs=0.025)
+    assert res.symmetric_interval[1] == pytest.approx(half, abs=0.025)
+    ada = run_adaptive(_sum, xs, seed=1)
+    assert ada.coverage_probability == 0.9545
+    # δ for u = 2.0 at n_dig = 2 is 0.05 (JCGM 101:2008, 7.9.2); an adaptive run's interval
+    # ends are stable to about δ.
+    assert ada.symmetric_interval[1] == pytest.approx(half, abs=0.1)

@@ -31,6 +31,7 @@ from viscometry.gum import (
 )
 from viscometry.gum.propagation import PSD_TOLERANCE
 from viscometry.io.json_out import dumps, result_to_dict
+from viscometry.text import statement
 
 POISEUILLE = "pi * r**4 * dp * t / (8 * V * L)"
 
@@ -76,7 +77,7 @@ def test_orders_of_magnitude_exact_power_law(case):
         assert math.isfinite(c.sensitivity) and math.isfinite(c.contribution)
     assert [round(c.relative_sensitivity, 12) for c in result.contributions] == [4, -1, -1, 1, 1]
     assert math.isfinite(result.expanded_uncertainty)
-    assert "relative U" in result.statement()
+    assert "relative U" in statement(result)
 
 
 def test_same_budget_in_any_unit_has_the_same_relative_uncertainty():
@@ -119,7 +120,7 @@ def test_zero_estimate_relative_quantities_stated_undefined():
     assert math.isnan(r.relative_expanded_uncertainty)
     assert all(math.isnan(c.relative_sensitivity) for c in r.contributions)
     assert all(math.isfinite(c.sensitivity) for c in r.contributions)
-    assert "relative U" not in r.statement() and "nan" not in r.statement().lower()
+    assert "relative U" not in statement(r) and "nan" not in statement(r).lower()
     d = json.loads(dumps(result_to_dict(r)))  # strict JSON: NaN is written as null
     assert d["relative_expanded_uncertainty"] is None
     assert all(row["relative_sensitivity"] is None for row in d["inputs"])
@@ -176,7 +177,7 @@ def test_all_zero_uncertainties_is_stated():
     assert math.isinf(r.effective_dof)
     assert all(c.variance_share == 0.0 for c in r.contributions)
     assert any("combined standard uncertainty is zero" in w for w in r.warnings)
-    assert "exactly known" in r.statement()
+    assert "exactly known" in statement(r)
 
 
 # ----------------------------------------------------------------------------- correlation
@@ -268,3 +269,97 @@ def test_no_numpy_warning_escapes_an_evaluation_with_extreme_values():
         warnings.simplefilter("error")
         with pytest.raises(ModelError, match="combined variance overflows"):
             b.evaluate()
+
+
+# ----------------------------------------------------------------------------- plausibility
+# Legal but doubtful budgets are evaluated and carry a warning with the numbers in it
+# (viscometry.gum.validity.uncertainty_warnings); no warnings.warn is emitted (warnings are
+# errors in this test run).
+def _poiseuille_with_radius(u_r):
+    inputs = [
+        InputQuantity.normal("r", 0.4, u_r, "mm"),
+        InputQuantity.normal("dp", 800.0, 8.0, "Pa"),
+        InputQuantity.normal("t", 200.0, 0.2, "s"),
+        InputQuantity.normal("V", 1.0, 0.01, "mL"),
+        InputQuantity.normal("L", 100.0, 0.1, "mm"),
+    ]
+    return Budget.from_formula("eta", POISEUILLE, inputs, "mPa*s")
+
+
+def test_input_uncertainty_reaching_past_zero_is_named_with_both_numbers():
+    r = _poiseuille_with_radius(0.5).evaluate()
+    (note,) = [w for w in r.warnings if w.startswith("u(r)")]
+    assert note.startswith(
+        "u(r) = 0.5 mm is at least |r| = 0.4 mm: its distribution reaches past zero"
+    )
+    assert "Monte Carlo" in note
+    # the other inputs are far from zero: nothing about them
+    assert not any(w.startswith(("u(dp)", "u(t)", "u(V)", "u(L)")) for w in r.warnings)
+    # the boundary u = |x| is included; just below it there is no u(r) warning
+    assert any(w.startswith("u(r) = 0.4 mm is at least |r| = 0.4 mm") for w in
+               _poiseuille_with_radius(0.4).evaluate().warnings)  # fmt: skip
+    below = _poiseuille_with_radius(0.39).evaluate().warnings
+    assert not any(w.startswith("u(r)") for w in below)
+    # (u(r)/r = 98 % still gives U > η: that is the other plausibility warning)
+    assert [w[:40] for w in below] == ["the coverage interval eta ± U reaches be"]
+    # the fast what-if path shows the same warnings as a full evaluation
+    lin = _poiseuille_with_radius(0.01).linearise()
+    assert lin.warnings == ()
+    assert lin.with_uncertainty("r", 0.5).warnings == r.warnings
+
+
+def test_zero_estimate_input_is_not_flagged():
+    # u(x) >= |x| is only meaningful for a non-zero estimate (a correction of 0 ± u is usual).
+    b = Budget.from_formula(
+        "nu", "C * t + E", [InputQuantity.normal("C", 0.1, 1e-4, "mm^2/s^2"),
+                            InputQuantity.normal("t", 400.0, 0.1, "s"),
+                            InputQuantity.normal("E", 0.0, 0.01, "mm^2/s")], "mm^2/s",
+    )  # fmt: skip
+    assert b.evaluate().warnings == ()
+
+
+def test_coverage_interval_of_a_viscosity_below_zero_is_flagged():
+    # ν = a − b = 0.5 mm²/s, u_c = √(0.3² + 0.3²) = 0.424, U = 2·0.424 = 0.849 > ν (exact
+    # analytic, k = 2.00 for p = 95.45 % and ν_eff = ∞): ν − U < 0, impossible for a viscosity.
+    qs = [
+        InputQuantity.normal("a", 1.0, 0.3, "mm^2/s"),
+        InputQuantity.normal("b", 0.5, 0.3, "mm^2/s"),
+    ]
+    r = Budget.from_formula("nu", "a - b", qs, "mm^2/s").evaluate()
+    assert r.expanded_uncertainty == pytest.approx(2.0 * math.sqrt(0.18), rel=1e-3)
+    (note,) = r.warnings
+    assert note.startswith(
+        "the coverage interval nu ± U reaches below zero (U = 0.849 mm²/s > nu = 0.5 mm²/s)"
+    )
+    assert "Monte Carlo" in note
+    # a dynamic viscosity, recognised by its unit, too
+    dyn = [
+        InputQuantity.normal("a", 1.0, 0.3, "mPa*s"),
+        InputQuantity.normal("b", 0.5, 0.3, "mPa*s"),
+    ]
+    assert any("reaches below zero" in w for w in
+               Budget.from_formula("eta", "a - b", dyn, "mPa*s").evaluate().warnings)  # fmt: skip
+    # a length difference may be negative: nothing to say
+    lengths = [InputQuantity.normal("a", 1.0, 0.3, "mm"), InputQuantity.normal("b", 0.5, 0.3, "mm")]
+    assert Budget.from_formula("d", "a - b", lengths, "mm").evaluate().warnings == ()
+    # with smaller uncertainties the interval stays above zero: nothing to say
+    small = [q.with_uncertainty(0.1) for q in qs]
+    assert Budget.from_formula("nu", "a - b", small, "mm^2/s").evaluate().warnings == ()
+
+
+def test_built_in_viscometer_model_interval_below_zero_is_flagged():
+    # glass_capillary_kinetic, ν = C·t − E/t² = 0.01·250 = 2.5 mm²/s; u(C)/C = 60 % gives
+    # U ≈ 2·0.6·2.5 = 3.0 mm²/s > ν (exact analytic, first order).
+    from viscometry.methods import get_method
+
+    m = get_method("glass_capillary_kinetic")
+    qs = [InputQuantity.normal("C", 0.01, 0.006, "mm^2/s^2"),
+          InputQuantity.normal("t", 250.0, 0.1, "s"),
+          InputQuantity.normal("E", 0.0, 1.0, "mm^2*s")]  # fmt: skip
+    r = m.budget(qs, unit="mm^2/s").evaluate()
+    assert r.expanded_uncertainty == pytest.approx(3.0, rel=1e-4)
+    assert [w for w in r.warnings if "reaches below zero" in w] == [
+        "the coverage interval nu ± U reaches below zero (U = 3 mm²/s > nu = 2.5 mm²/s); nu "
+        "cannot be negative, so the first-order budget is not adequate here: check the "
+        "uncertainties and use the Monte Carlo method (JCGM 101)"
+    ]

@@ -1,4 +1,4 @@
-"""Tests of viscometry.planning: upgrade what-ifs, the inverse question, sweeps, scope tables.
+"""Tests of viscometry.planning: upgrade what-ifs, the inverse question, working ranges, scope tables.
 
 Check values come from exact analytic cases (a linear model y = x1 + x2 + x3 with a fixed
 k = 2, where u_c is a root-sum-square of whole numbers) and from independent recomputation
@@ -19,17 +19,18 @@ matplotlib.use("Agg")
 
 from viscometry.errors import BudgetFileError, InputError  # noqa: E402
 from viscometry.gum import Budget, Constant, Correlation, InputQuantity  # noqa: E402
+from viscometry.io.candidates import candidates_from_mapping  # noqa: E402
 from viscometry.planning import (  # noqa: E402
     UpgradeCandidate,
     apply_candidates,
-    candidates_from_mapping,
     evaluate_upgrades,
     required_uncertainties,
     required_uncertainty,
     round_up,
     scope_table,
-    sweep,
+    working_range,
 )
+from viscometry.text import format_exact_percent, required_text  # noqa: E402
 
 
 # --------------------------------------------------------------------------- fixtures
@@ -97,7 +98,7 @@ def test_candidate_validation() -> None:
 def test_linear_upgrades_exact() -> None:
     # exact analytic: u_c = sqrt(sum u_i^2), U = 2 u_c, baseline 2·13 = 26
     plan = evaluate_upgrades(linear_budget(), linear_candidates(), target=12.0)
-    assert plan.method == "exhaustive" and len(plan.options) == 8
+    assert plan.search == "exhaustive" and len(plan.options) == 8
     assert plan.baseline.expanded_uncertainty == pytest.approx(26.0, rel=1e-14)
     a = plan.option(["A: x3 exact"])
     b = plan.option(["B: x1, x2 exact"])
@@ -123,8 +124,19 @@ def test_linear_upgrades_exact() -> None:
     assert plan.best.expanded_uncertainty == 0.0 and plan.best.cost == 85.0
     # table ranked by U
     t = plan.table()
-    assert list(t["U"]) == sorted(t["U"])
+    assert list(t.columns) == [
+        "candidates", "count", "cost", "expanded_uncertainty", "relative_expanded_uncertainty",
+        "standard_uncertainty", "coverage_factor", "effective_dof", "reduction",
+        "reduction_per_cost", "dominant", "reaches_target",
+    ]  # fmt: skip
+    assert list(t["expanded_uncertainty"]) == sorted(t["expanded_uncertainty"])
     assert t.iloc[-1]["candidates"] == "(baseline)"
+    # the cost–U frontier (exact analytic): (), B, D, B + D, A, A + B — by cost, U falling
+    assert [(o.cost, o.label) for o in plan.frontier] == [
+        (0.0, "(baseline)"), (5.0, "B: x1, x2 exact"), (20.0, "D: x3 to 6"),
+        (25.0, "B: x1, x2 exact + D: x3 to 6"), (80.0, "A: x3 exact"),
+        (85.0, "A: x3 exact + B: x1, x2 exact"),
+    ]  # fmt: skip
 
 
 def test_cheapest_tie_goes_to_larger_reduction() -> None:
@@ -142,7 +154,7 @@ def test_target_unreachable_by_any_set() -> None:
         linear_budget(), [UpgradeCandidate("D", 20.0, {"x3": 6.0})], target=1.0
     )
     assert plan.cheapest is None
-    assert plan.table()["reaches target"].sum() == 0
+    assert plan.table()["reaches_target"].sum() == 0
 
 
 def test_free_candidate_per_cost() -> None:
@@ -221,7 +233,7 @@ def test_greedy_search_documented_behaviour() -> None:
     b = Budget.from_formula("y", " + ".join(q.name for q in inputs), inputs, coverage_factor=2.0)
     cands = [UpgradeCandidate(f"c{i}", float(i), {f"x{i}": 0.0}) for i in range(1, n + 1)]
     plan = evaluate_upgrades(b, cands, target=2 * math.sqrt(10.0))
-    assert plan.method == "greedy"
+    assert plan.search == "greedy"
     # each greedy step takes the cheapest remaining candidate (largest reduction per cost)
     assert [o.candidates[-1] for o in plan.greedy_path] == [f"c{i}" for i in range(1, n + 1)]
     # U ≤ 2√10 needs 4 inputs exact; cheapest: c1..c4, cost 10
@@ -234,7 +246,7 @@ def test_required_uncertainty_closed_form() -> None:
     b = linear_budget()
     r = required_uncertainty(b, "x3", 20.0)
     # exact analytic: (20/2)² − 3² − 4² = 75 → u(x3) = √75
-    assert r.method == "closed form" and r.reachable and not r.already_met
+    assert r.solver == "closed form" and r.reachable and not r.already_met
     assert r.required_uncertainty == pytest.approx(math.sqrt(75.0), rel=1e-14)
     assert r.floor == pytest.approx(10.0, rel=1e-14)
     ok = b.with_uncertainty("x3", r.required_uncertainty).evaluate()
@@ -247,13 +259,14 @@ def test_required_uncertainty_unreachable_and_floor() -> None:
     # exact analytic: the others alone give 2·√(16 + 144) = 2√160 ≈ 25.3 > 20
     assert not r.reachable and math.isnan(r.required_uncertainty)
     assert r.floor == pytest.approx(2 * math.sqrt(160.0), rel=1e-14)
-    assert r.message.startswith("unreachable even with u(x1) = 0")
-    assert "25.3" in r.message
+    assert required_text(r).startswith("unreachable even with u(x1) = 0")
+    assert "25.3" in required_text(r)
     met = required_uncertainty(b, "x1", 30.0)
     # exact analytic: 15² − 160 = 65 → u(x1) may grow to √65
     assert met.already_met and met.required_uncertainty == pytest.approx(math.sqrt(65.0), rel=1e-14)
-    df = required_uncertainties(b, 20.0)
-    assert list(df["reachable"]) == [False, False, True]
+    rs = required_uncertainties(b, 20.0)
+    assert [r.name for r in rs] == ["x1", "x2", "x3"]
+    assert [r.reachable for r in rs] == [False, False, True]
 
 
 def test_required_uncertainty_with_correlation_closed_form() -> None:
@@ -273,7 +286,7 @@ def test_required_uncertainty_t_based_root() -> None:
     hits = 0
     for name in b.input_names:
         r = required_uncertainty(b, name, target)
-        assert r.method == "root finding"
+        assert r.solver == "root finding"
         if not r.reachable:
             floor = b.with_uncertainty(name, 0.0).evaluate().expanded_uncertainty
             assert r.floor == pytest.approx(floor, rel=1e-10)
@@ -298,10 +311,10 @@ def test_required_uncertainty_errors() -> None:
         required_uncertainty(linear_budget(), "q", 1.0)
 
 
-# --------------------------------------------------------------------------- sweeps
-def test_sweep_equals_point_by_point() -> None:
+# --------------------------------------------------------------------------- working ranges
+def test_working_range_equals_point_by_point() -> None:
     b = t_budget(correlated=True)
-    s = sweep(b, "t", 200.0, 900.0, points=25, spacing="log")
+    s = working_range(b, "t", 200.0, 900.0, points=25, spacing="log")
     assert np.allclose(s.values, np.geomspace(200.0, 900.0, 25), rtol=0, atol=0)
     for j, v in enumerate(s.values):
         full = b.with_input(replace(b.input("t"), value=float(v))).evaluate()
@@ -312,11 +325,18 @@ def test_sweep_equals_point_by_point() -> None:
         assert s.expanded_uncertainty[j] == pytest.approx(full.expanded_uncertainty, rel=1e-12)
         assert s.dominant[j] == full.dominant.name
     t = s.table()
-    assert list(t.columns[:2]) == ["t", "nu"] and len(t) == 25
-    assert np.allclose(t["relative U"], t["U"] / t["nu"].abs())
+    assert list(t.columns) == [
+        "input_value", "value", "standard_uncertainty", "effective_dof", "coverage_factor",
+        "expanded_uncertainty", "relative_expanded_uncertainty", "dominant", "dominant_share",
+    ]  # fmt: skip
+    assert len(t) == 25
+    assert np.array_equal(t["input_value"], s.values) and np.array_equal(t["value"], s.value)
+    assert np.allclose(
+        t["relative_expanded_uncertainty"], t["expanded_uncertainty"] / t["value"].abs()
+    )
 
 
-def test_sweep_with_adjust_equals_point_by_point() -> None:
+def test_working_range_with_adjust_equals_point_by_point() -> None:
     b = t_budget()
 
     def adjust(t):
@@ -324,7 +344,7 @@ def test_sweep_with_adjust_equals_point_by_point() -> None:
         return {"C": {"standard_uncertainty": 2.0e-5 * t / 300.0}, "E": 3.0 + 0.001 * t,
                 "t": {"standard_uncertainty": 0.0005 * t}}  # fmt: skip
 
-    s = sweep(b, "t", 250.0, 700.0, points=12, adjust=adjust)
+    s = working_range(b, "t", 250.0, 700.0, points=12, adjust=adjust)
     for j, v in enumerate(s.values):
         bb = b.with_input(replace(b.input("t"), value=float(v), standard_uncertainty=0.0005 * v))
         bb = bb.with_uncertainty("C", 2.0e-5 * v / 300.0)
@@ -334,20 +354,53 @@ def test_sweep_with_adjust_equals_point_by_point() -> None:
         assert s.expanded_uncertainty[j] == pytest.approx(full.expanded_uncertainty, rel=1e-12)
 
 
-def test_sweep_errors() -> None:
+def test_working_range_errors() -> None:
     b = t_budget()
-    with pytest.raises(InputError, match="log sweep needs start and stop > 0"):
-        sweep(b, "t", 0.0, 10.0, spacing="log")
+    with pytest.raises(InputError, match="a log range needs start and stop > 0"):
+        working_range(b, "t", 0.0, 10.0, spacing="log")
     with pytest.raises(InputError, match="spacing must be"):
-        sweep(b, "t", 1.0, 10.0, spacing="cubic")  # type: ignore[arg-type]
+        working_range(b, "t", 1.0, 10.0, spacing="cubic")  # type: ignore[arg-type]
     with pytest.raises(InputError, match="unknown input 'Z'"):
-        sweep(b, "t", 100.0, 200.0, adjust=lambda v: {"Z": v})
-    with pytest.raises(InputError, match="may not set the estimate of the swept input"):
-        sweep(b, "t", 100.0, 200.0, adjust=lambda v: {"t": v})
-    with pytest.raises(InputError, match="points must be a positive integer"):
-        sweep(b, "t", 100.0, 200.0, points=0)
-    with pytest.raises(InputError, match="not finite at t = 0.0"):
-        sweep(b, "t", 0.0, 10.0, points=3)
+        working_range(b, "t", 100.0, 200.0, adjust=lambda v: {"Z": v})
+    with pytest.raises(
+        InputError, match="may not set the estimate of 't', which the range runs over"
+    ):
+        working_range(b, "t", 100.0, 200.0, adjust=lambda v: {"t": v})
+    with pytest.raises(InputError, match="range points must be a positive integer"):
+        working_range(b, "t", 100.0, 200.0, points=0)
+    with pytest.raises(InputError, match=r"not finite at t = 0.0 \(point 1 of the range\)"):
+        working_range(b, "t", 0.0, 10.0, points=3)
+
+
+def warned_budget() -> Budget:
+    """y = a·b with u(a) = 2 > |a| = 1 (a is a power-law factor, so it keeps its sign) and an
+    input c the model does not use: one plausibility and one estimate warning."""
+    return Budget.from_formula(
+        "y", "a * b",
+        [InputQuantity.normal("a", 1.0, 2.0), InputQuantity.normal("b", 2.0, 0.1),
+         InputQuantity.normal("c", 1.0, 0.1)],
+        coverage_factor=2.0,
+    )  # fmt: skip
+
+
+def test_a_sum_has_no_sign_bound_inputs() -> None:
+    # In y = x1 + x2 + x3 each input may take either sign, so u(xᵢ) ≥ |xᵢ| is no warning.
+    assert linear_budget().evaluate().warnings == ()
+
+
+def test_working_range_carries_the_budgets_warnings() -> None:
+    # one budget, one path: the range states the warnings evaluate() gives for the budget
+    b = warned_budget()
+    expected = b.evaluate().warnings
+    assert len(expected) == 2 and "input c is not used" in expected[0]
+    assert "u(a) = 2 is at least |a| = 1" in expected[1]
+    assert working_range(b, "b", 1.0, 3.0, points=3).warnings == expected
+
+
+def test_upgrade_plan_carries_the_budgets_warnings() -> None:
+    b = warned_budget()
+    plan = evaluate_upgrades(b, [UpgradeCandidate("better b", 10.0, {"b": 0.01})])
+    assert plan.warnings == b.evaluate().warnings and len(plan.warnings) == 2
 
 
 # --------------------------------------------------------------------------- scope tables
@@ -366,19 +419,29 @@ def test_round_up_two_significant_digits() -> None:
 def test_scope_table_rounds_up_the_largest_in_each_subrange() -> None:
     # y = x with u = 0.0123, k = 2: relative U = 0.0246/x (exact analytic)
     b = Budget.from_formula("y", "x", [InputQuantity.normal("x", 1.0, 0.0123)], coverage_factor=2.0)
-    s = sweep(b, "x", 1.0, 10.0, points=10)
+    s = working_range(b, "x", 1.0, 10.0, points=10)
     t = scope_table(s, [1.0, 3.0, 10.0])
+    assert list(t.columns) == [
+        "from", "to", "points", "largest_relative_expanded_uncertainty", "at",
+        "stated_relative_expanded_uncertainty",
+    ]  # fmt: skip
     assert list(t["points"]) == [3, 8]  # x = 3 lies on the shared edge and counts in both
     assert list(t["at"]) == [1.0, 3.0]
-    assert t["largest relative U"].tolist() == pytest.approx([0.0246, 0.0082], rel=1e-14)
+    assert t["largest_relative_expanded_uncertainty"].tolist() == pytest.approx(
+        [0.0246, 0.0082], rel=1e-14
+    )
     # 0.0246 → 0.025 (up, not to the nearer 0.025 by chance: 0.0246 would round to 0.025
     # either way), 0.0082 stays 0.0082
-    assert t["stated relative U"].tolist() == [0.025, 0.0082]
-    assert t["stated"].tolist() == ["2.5 %", "0.82 %"]
+    assert t["stated_relative_expanded_uncertainty"].tolist() == [0.025, 0.0082]
+    # the stated percentages, written without float noise (the text column is gone)
+    assert [format_exact_percent(v) for v in t["stated_relative_expanded_uncertainty"]] == [
+        "2.5",
+        "0.82",
+    ]
     t2 = scope_table(s, [1.0, 1.5, 4.5])
     # 0.0246/2 = 0.0123 → 0.013 (rounded up although 0.012 is nearer)
-    assert t2["stated relative U"].tolist() == [0.025, 0.013]
-    with pytest.raises(InputError, match="no sweep point"):
+    assert t2["stated_relative_expanded_uncertainty"].tolist() == [0.025, 0.013]
+    with pytest.raises(InputError, match=r"no point with y in the sub-range \[1.1, 1.9\]"):
         scope_table(s, [1.1, 1.9])
     with pytest.raises(InputError, match="strictly increasing"):
         scope_table(s, [3.0, 1.0])
@@ -423,13 +486,13 @@ def test_candidates_from_mapping_and_errors() -> None:
 def test_plots_return_figures() -> None:
     from matplotlib.figure import Figure
 
-    from viscometry.planning_plots import plot_sweep, plot_upgrades
+    from viscometry.planning_plots import plot_upgrades, plot_working_range
 
-    s = sweep(t_budget(), "t", 200.0, 20000.0, points=30, spacing="log")
-    fig = plot_sweep(s)
+    s = working_range(t_budget(), "t", 200.0, 20000.0, points=30, spacing="log")
+    fig = plot_working_range(s)
     assert isinstance(fig, Figure) and fig.axes[0].get_xscale() == "log"
     sc = scope_table(s, [float(s.value.min()), 10.0, float(s.value.max())])
-    fig2 = plot_sweep(s, relative=True, axis="value", scope=sc)
+    fig2 = plot_working_range(s, relative=True, axis="value", scope=sc)
     assert isinstance(fig2, Figure)
     plan = evaluate_upgrades(linear_budget(), linear_candidates(), target=12.0)
     fig3 = plot_upgrades(plan)

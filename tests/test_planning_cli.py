@@ -1,4 +1,4 @@
-"""Command-line tests of ``viscometry plan``, ``sweep``, ``decide`` and ``score``.
+"""Command-line tests of ``viscometry plan``, ``scope``, ``decide`` and ``score``.
 
 The planning numbers come from the exact analytic linear budget y = x1 + x2 + x3 with
 u = (3, 4, 12) and k = 2 (u_c = 13, U = 26); decisions and scores are recomputed
@@ -15,6 +15,7 @@ import pytest
 from scipy import stats
 
 from viscometry.cli import main
+from viscometry.io import load_budget
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLE_BUDGET = ROOT / "examples" / "primary_capillary_poiseuille.toml"
@@ -91,7 +92,18 @@ def test_plan_json_exact(files: tuple[str, str], capsys: pytest.CaptureFixture[s
     code, out, err = _run(capsys, "plan", *files, "--target", "12", "--json")
     assert code == 0, err
     d = json.loads(out)
-    assert d["currency"] == "credits" and d["method"] == "exhaustive"
+    assert list(d) == [
+        "schema", "measurand", "unit", "currency", "search", "baseline", "target",
+        "combination_rule", "candidates", "options", "frontier", "best_per_cost",
+        "cheapest_reaching_target", "required_uncertainties", "warnings", "fingerprint",
+        "source",
+    ]  # fmt: skip
+    assert d["schema"] == "viscometry.plan/1"
+    assert d["currency"] == "credits" and d["search"] == "exhaustive"
+    assert d["fingerprint"] == load_budget(files[0]).fingerprint and d["source"] == files[0]
+    # the plan's warnings are the budget's, as evaluate gives them (none for this sum: its
+    # inputs may take either sign; test_scope_warnings_are_the_budgets covers a warned one)
+    assert d["warnings"] == list(load_budget(files[0]).budget.evaluate().warnings) == []
     assert d["baseline"]["expanded_uncertainty"] == pytest.approx(26.0, rel=1e-14)  # 2·13
     # exact analytic: B + D gives u = (0, 0, 6) → U = 12 for 5 + 20
     assert sorted(d["cheapest_reaching_target"]["candidates"]) == ["B", "D"]
@@ -102,11 +114,24 @@ def test_plan_json_exact(files: tuple[str, str], capsys: pytest.CaptureFixture[s
         (26 - 2 * math.sqrt(61)) / 20, rel=1e-13
     )
     assert len(d["options"]) == 8
-    us = [o["U"] for o in d["options"]]
+    us = [o["expanded_uncertainty"] for o in d["options"]]
     assert us == sorted(us)
+    # exact analytic cost–U frontier: (), B, D, B+D, A, A+B with U = 26, 24, 2√61, 12, 10, 0
+    front = [(sorted(o["candidates"]), o["cost"], o["expanded_uncertainty"]) for o in d["frontier"]]
+    assert [(c, cost) for c, cost, _ in front] == [
+        ([], 0.0), (["B"], 5.0), (["D"], 20.0), (["B", "D"], 25.0), (["A"], 80.0),
+        (["A", "B"], 85.0),
+    ]  # fmt: skip
+    assert [u for *_, u in front] == pytest.approx(
+        [26.0, 24.0, 2 * math.sqrt(61.0), 12.0, 10.0, 0.0], rel=1e-14, abs=1e-14
+    )
     req = {r["input"]: r for r in d["required_uncertainties"]}
+    assert list(req["x3"]) == [
+        "input", "unit", "current_uncertainty", "required_uncertainty", "floor", "reachable",
+        "solver",
+    ]  # fmt: skip
     # exact analytic: (12/2)² − 3² − 4² = 11 → u(x3) ≤ √11
-    assert req["x3"]["required u"] == pytest.approx(math.sqrt(11.0), rel=1e-13)
+    assert req["x3"]["required_uncertainty"] == pytest.approx(math.sqrt(11.0), rel=1e-13)
     assert req["x1"]["reachable"] is False
 
 
@@ -118,6 +143,26 @@ def test_plan_text_and_percent_target(
     assert code == 0, err
     assert "cheapest set reaching U ≤ 12 mm: B + D for 25 credits" in out
     assert "x1: unreachable even with u(x1) = 0" in out
+    # by default the ranking shows the cost–U frontier (6 of the 8 sets, by cost); --all
+    # ranks every set by U (candidate numbers: 1 = A, 2 = B, 3 = D)
+    assert "the cost–U frontier (sets no cheaper set beats)" in out
+    assert _set_labels(out) == ["(baseline)", "2", "3", "2+3", "1", "1+2"]
+    code, out, err = _run(capsys, "plan", *files, "--target", "200%", "--all")
+    assert code == 0, err
+    assert "every set, ranked by U" in out and "cost–U frontier" not in out
+    assert _set_labels(out) == ["1+2", "1+2+3", "1", "1+3", "2+3", "3", "2", "(baseline)"]
+
+
+def _set_labels(out: str) -> list[str]:
+    """First cells of the rows of the ranking table printed by ``viscometry plan``."""
+    lines = out.splitlines()
+    start = next(i for i, line in enumerate(lines) if line.split()[:2] == ["set", "cost"]) + 1
+    rows = []
+    for line in lines[start:]:
+        if not line.startswith("  ") or line.startswith("  ..."):
+            break
+        rows.append(line.split()[0])
+    return rows
 
 
 def test_plan_errors_name_file_table_key(files: tuple[str, str], tmp_path: Path,
@@ -148,34 +193,82 @@ def test_plan_example_files(capsys: pytest.CaptureFixture[str]) -> None:
     code, out, err = _run(capsys, "plan", str(EXAMPLE_BUDGET), str(EXAMPLE_CANDIDATES), "--json")
     assert code == 0, err
     d = json.loads(out)
-    assert d["method"] == "exhaustive" and len(d["options"]) == 2 ** len(d["candidates"])
+    assert d["search"] == "exhaustive" and len(d["options"]) == 2 ** len(d["candidates"])
 
 
-# --------------------------------------------------------------------------- sweep
-def test_sweep_json(files: tuple[str, str], capsys: pytest.CaptureFixture[str]) -> None:
-    code, out, err = _run(capsys, "sweep", files[0], "--over", "x1", "--from", "1", "--to", "11",
-                          "--points", "6", "--scope", "4,10,16", "--json")  # fmt: skip
+# --------------------------------------------------------------------------- scope
+def test_scope_json(files: tuple[str, str], capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, err = _run(capsys, "scope", files[0], "--over", "x1", "--from", "1", "--to", "11",
+                          "--points", "6", "--edges", "4,10,16", "--json")  # fmt: skip
     assert code == 0, err
     d = json.loads(out)
+    assert d["schema"] == "viscometry.scope/1"
+    assert (d["measurand"], d["unit"], d["over"], d["over_unit"]) == ("y", "mm", "x1", "mm")
     pts = d["points"]
-    assert [p["x1"] for p in pts] == [1.0, 3.0, 5.0, 7.0, 9.0, 11.0]
+    assert [p["input_value"] for p in pts] == [1.0, 3.0, 5.0, 7.0, 9.0, 11.0]
     # exact analytic: y = x1 + 5, U = 26 throughout (linear model)
-    assert [p["y"] for p in pts] == pytest.approx([6.0, 8.0, 10.0, 12.0, 14.0, 16.0], rel=1e-14)
-    assert all(p["U"] == pytest.approx(26.0, rel=1e-14) and p["dominant"] == "x3" for p in pts)
+    assert [p["value"] for p in pts] == pytest.approx([6.0, 8.0, 10.0, 12.0, 14.0, 16.0], rel=1e-14)
+    assert all(p["expanded_uncertainty"] == pytest.approx(26.0, rel=1e-14) for p in pts)
+    assert all(p["dominant"] == "x3" for p in pts)
+    # exact analytic: x3 carries 144/169 of the variance
+    assert all(p["dominant_share"] == pytest.approx(144 / 169, rel=1e-14) for p in pts)
     # scope: largest U/y in [4, 10] is 26/6 → 4.4 (rounded up; common practice, no source)
-    assert [s["stated relative U"] for s in d["scope"]] == [4.4, 2.6]
+    assert [s["stated_relative_expanded_uncertainty"] for s in d["scope"]] == [4.4, 2.6]
+    assert [s["largest_relative_expanded_uncertainty"] for s in d["scope"]] == pytest.approx(
+        [26 / 6, 26 / 10], rel=1e-14
+    )  # exact analytic
+    assert d["fingerprint"] == load_budget(files[0]).fingerprint and d["source"] == files[0]
 
 
-def test_sweep_text_and_errors(files: tuple[str, str], capsys: pytest.CaptureFixture[str]) -> None:
-    code, out, _err = _run(capsys, "sweep", files[0], "--over", "x2", "--from", "1", "--to", "100",
+def test_scope_text_and_errors(files: tuple[str, str], capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, _err = _run(capsys, "scope", files[0], "--over", "x2", "--from", "1", "--to", "100",
                            "--points", "3", "--log")  # fmt: skip
     assert code == 0 and "y [mm] across x2 [mm] from 1 to 100, 3 points" in out
-    code, _out, err = _run(capsys, "sweep", files[0], "--over", "nope", "--from", "1", "--to", "2")
+    code, _out, err = _run(capsys, "scope", files[0], "--over", "nope", "--from", "1", "--to", "2")
     assert code == 2 and "no input named 'nope'" in err
     code, _out, err = _run(
-        capsys, "sweep", files[0], "--over", "x1", "--from", "0", "--to", "2", "--log"
+        capsys, "scope", files[0], "--over", "x1", "--from", "0", "--to", "2", "--log"
     )
-    assert code == 2 and "log sweep needs start and stop > 0" in err
+    assert code == 2 and "a log range needs start and stop > 0" in err
+    assert err.startswith(f"viscometry: error: {files[0]}: ")
+
+
+def test_scope_old_option_name_is_refused(
+    files: tuple[str, str], capsys: pytest.CaptureFixture[str]
+) -> None:
+    # --scope was renamed --edges: the old name is an unknown option (usage error, exit 2)
+    code, out, err = _run(capsys, "scope", files[0], "--over", "x1", "--from", "1", "--to", "11",
+                          "--scope", "4,10,16")  # fmt: skip
+    assert code == 2 and out == ""
+    assert "unrecognized arguments: --scope" in err
+
+
+def test_scope_warnings_are_the_budgets(
+    files: tuple[str, str], capsys: pytest.CaptureFixture[str], tmp_path: Path
+) -> None:
+    # one budget, one path: the range carries the same warnings as evaluate — here for
+    # y = x1·x2 with u(x1) = 3 > |x1| = 1 and u(x2) = 4 > |x2| = 2 (factors that keep their
+    # sign) and an unused x3
+    text = Path(files[0]).read_text(encoding="utf-8").replace('"x1 + x2 + x3"', '"x1 * x2 / 1"')
+    text = text.replace('unit = "mm"\nmodel', 'unit = "mm^2"\nmodel', 1)
+    warned = tmp_path / "warned.toml"
+    warned.write_text(text, encoding="utf-8")
+    code, out, err = _run(capsys, "evaluate", "--json", str(warned))
+    assert code == 0, err
+    expected = json.loads(out)["warnings"]
+    assert len(expected) == 3 and "input x3 is not used" in expected[0]
+    assert "u(x1) = 3 mm is at least |x1| = 1 mm" in expected[1]
+    assert "u(x2) = 4 mm is at least |x2| = 2 mm" in expected[2]
+    code, out, err = _run(capsys, "scope", str(warned), "--over", "x2", "--from", "1", "--to", "11",
+                          "--points", "3", "--json")  # fmt: skip
+    assert code == 0, err
+    assert json.loads(out)["warnings"] == expected
+    code, out, err = _run(capsys, "scope", str(warned), "--over", "x2", "--from", "1", "--to", "11",
+                          "--points", "3")  # fmt: skip
+    assert code == 0, err
+    assert [line for line in out.splitlines() if line.startswith("warning: ")] == [
+        f"warning: {w}" for w in expected
+    ]
 
 
 # --------------------------------------------------------------------------- decide

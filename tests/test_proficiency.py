@@ -28,6 +28,7 @@ from viscometry.proficiency import (
     z_score,
     zeta_score,
 )
+from viscometry.text import score_statement
 
 # --------------------------------------------------------------------------- formulas
 
@@ -159,29 +160,39 @@ def test_z_prime_and_zeta_share_the_z_thresholds(lab_value, expected_value, expe
 
 
 def test_statements():
-    assert en_score(15.0, 3.0, 10.0, 4.0).statement == "E_n = 1.00: satisfactory, since |E_n| <= 1."
+    # Wording moved to viscometry.text.score_statement, unchanged (ISO 13528 classes above).
     assert (
-        en_score(16.0, 3.0, 10.0, 4.0).statement == "E_n = 1.20: unsatisfactory, since |E_n| > 1."
+        score_statement(en_score(15.0, 3.0, 10.0, 4.0))
+        == "E_n = 1.00: satisfactory, since |E_n| <= 1."
     )
     assert (
-        z_score(16.0, 10.0, 2.0).statement
+        score_statement(en_score(16.0, 3.0, 10.0, 4.0))
+        == "E_n = 1.20: unsatisfactory, since |E_n| > 1."
+    )
+    assert (
+        score_statement(z_score(16.0, 10.0, 2.0))
         == "z = 3.00: unsatisfactory (action signal), since |z| >= 3."
     )
     assert (
-        z_prime_score(22.5, 10.0, 3.0, 4.0).statement
+        score_statement(z_prime_score(22.5, 10.0, 3.0, 4.0))
         == "z′ = 2.50: questionable (warning signal), since 2 < |z′| < 3."
     )
-    assert z_score(10.0, 10.0, 2.0).statement == "z = 0.00: satisfactory, since |z| <= 2."
-    assert z_score(9.999, 10.0, 2.0).statement.startswith("z = 0.00:")  # no "-0.00"
+    assert score_statement(z_score(10.0, 10.0, 2.0)) == "z = 0.00: satisfactory, since |z| <= 2."
+    assert score_statement(z_score(9.999, 10.0, 2.0)).startswith("z = 0.00:")  # no "-0.00"
 
 
 def test_statement_says_which_side_when_two_decimals_hide_it():
     s = en_score(15.0000005, 3.0, 10.0, 4.0)
-    assert s.statement == "E_n = 1.00 (|E_n| just above 1): unsatisfactory, since |E_n| > 1."
+    assert score_statement(s) == "E_n = 1.00 (|E_n| just above 1): unsatisfactory, since |E_n| > 1."
     s = z_score(15.9999998, 10.0, 2.0)
-    assert s.statement == (
+    assert score_statement(s) == (
         "z = 3.00 (|z| just below 3): questionable (warning signal), since 2 < |z| < 3."
     )
+
+
+def test_score_has_no_text_of_its_own():
+    # One budget, one path: a Score holds numbers; the words come from viscometry.text.
+    assert not hasattr(z_score(12.0, 10.0, 2.0), "statement")
 
 
 def test_score_is_frozen():

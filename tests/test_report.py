@@ -18,7 +18,7 @@ import pytest
 from viscometry.cli import main
 from viscometry.errors import InputError
 from viscometry.gum import Budget, Correlation, InputQuantity
-from viscometry.io.budget_file import load_budget
+from viscometry.io import load_budget
 from viscometry.io.json_out import dumps, result_to_dict
 from viscometry.report import (
     CAUTIONS,
@@ -29,6 +29,7 @@ from viscometry.report import (
     render_report,
     write_report,
 )
+from viscometry.text import statement
 
 REPO = Path(__file__).resolve().parents[1]
 END_GAUGE = REPO / "examples" / "reference" / "gum_h1_end_gauge.toml"
@@ -41,7 +42,7 @@ HOSTILE_TEX = "50% & _x_"
 @pytest.fixture(scope="module")
 def end_gauge():
     bf = load_budget(END_GAUGE)
-    return bf, bf.evaluate()
+    return bf, bf.budget.evaluate()
 
 
 def _hostile_result(title: str = HOSTILE_TITLE, text: str = HOSTILE_TEX):
@@ -62,11 +63,13 @@ def _fields(q: InputQuantity) -> dict:
 # --------------------------------------------------------------------------- formats
 def test_json_equals_result_to_dict(end_gauge, tmp_path):
     bf, result = end_gauge
-    path = write_report(result, tmp_path / "r.json", fingerprint=bf.fingerprint)
+    path = write_report(result, tmp_path / "r.json")
     loaded = json.loads(path.read_text(encoding="utf-8"))
     # dumps writes inf as "inf"; compare through the same strict JSON round trip.
-    assert loaded == json.loads(dumps(result_to_dict(result, fingerprint=bf.fingerprint)))
-    assert loaded["fingerprint"] == bf.fingerprint
+    assert loaded == json.loads(dumps(result_to_dict(result, kind="report")))
+    assert loaded["schema"] == "viscometry.report/1"
+    # the fingerprint comes from the result's budget, the same as the file's
+    assert loaded["fingerprint"] == bf.fingerprint == result.fingerprint
 
 
 def test_json_matches_evaluate_json(tmp_path, capsys):
@@ -74,27 +77,34 @@ def test_json_matches_evaluate_json(tmp_path, capsys):
     assert main(["report", str(END_GAUGE), "-o", str(out)]) == 0
     capsys.readouterr()
     assert main(["evaluate", "--json", str(END_GAUGE)]) == 0
-    printed = capsys.readouterr().out
-    assert json.loads(out.read_text(encoding="utf-8")) == json.loads(printed)
+    printed = json.loads(capsys.readouterr().out)
+    report = json.loads(out.read_text(encoding="utf-8"))
+    # the same object, except that each names its own kind in "schema" and the command line
+    # adds the file it read ("source")
+    assert report["schema"] == "viscometry.report/1"
+    assert printed["schema"] == "viscometry.evaluate/1"
+    assert printed.pop("source") == str(END_GAUGE)
+    assert list(report) == list(printed)
+    assert {**report, "schema": printed["schema"]} == printed
 
 
 def test_csv_one_row_per_input(end_gauge, tmp_path):
     bf, result = end_gauge
-    path = write_report(result, tmp_path / "r.csv", fingerprint=bf.fingerprint)
+    path = write_report(result, tmp_path / "r.csv")
     table = pd.read_csv(path, comment="#")
     assert list(table["quantity"]) == [c.name for c in result.contributions]
     # Floats are written with repr, so they read back exactly.
     assert list(table["estimate"]) == [c.value for c in result.contributions]
-    assert list(table["variance share"]) == [c.variance_share for c in result.contributions]
+    assert list(table["variance_share"]) == [c.variance_share for c in result.contributions]
     text = path.read_text(encoding="utf-8")
     assert f"# fingerprint: {bf.fingerprint}\n" in text
-    assert f"# statement: {result.statement()}\n" in text
+    assert f"# statement: {statement(result)}\n" in text
     assert f"# expanded_uncertainty: {result.expanded_uncertainty!r}\n" in text
 
 
 def test_csv_has_correlation_rows(tmp_path):
     bf = load_budget(CORRELATED)
-    result = bf.evaluate()
+    result = bf.budget.evaluate()
     assert result.cross_terms  # the example declares a correlation
     table = pd.read_csv(write_report(result, tmp_path / "c.csv"), comment="#")
     assert len(table) == len(result.contributions) + len(result.cross_terms)
@@ -111,11 +121,9 @@ def test_csv_guards_text_cells(tmp_path):
 
 def test_html_content(end_gauge, tmp_path):
     bf, result = end_gauge
-    text = write_report(result, tmp_path / "r.html", fingerprint=bf.fingerprint).read_text(
-        encoding="utf-8"
-    )
+    text = write_report(result, tmp_path / "r.html").read_text(encoding="utf-8")
     assert text.startswith("<!DOCTYPE html>")
-    assert result.statement() in text
+    assert statement(result) in text
     assert bf.fingerprint in text
     for caution in CAUTIONS:
         assert caution.replace("'", "&#x27;") in text
@@ -183,11 +191,9 @@ def test_latex_escape_specials(raw, escaped):
 
 def test_markdown_table_and_escaping(end_gauge, tmp_path):
     bf, result = end_gauge
-    text = write_report(result, tmp_path / "r.md", fingerprint=bf.fingerprint).read_text(
-        encoding="utf-8"
-    )
+    text = write_report(result, tmp_path / "r.md").read_text(encoding="utf-8")
     assert "| quantity | estimate | unit | u(x) |" in text
-    assert result.statement() in text
+    assert statement(result) in text
     assert bf.fingerprint in text
     table_rows = [line for line in text.splitlines() if line.startswith("| l\\_s |")]
     assert len(table_rows) == 1
@@ -199,18 +205,23 @@ def test_markdown_table_and_escaping(end_gauge, tmp_path):
 @pytest.mark.parametrize("fmt", ["html", "md", "tex", "csv", "json"])
 def test_reproducible(end_gauge, fmt):
     bf, result = end_gauge
-    first = render_report(result, fmt, fingerprint=bf.fingerprint)
-    again = render_report(load_budget(END_GAUGE).evaluate(), fmt, fingerprint=bf.fingerprint)
+    first = render_report(result, fmt)
+    again = render_report(load_budget(END_GAUGE).budget.evaluate(), fmt)
     assert first == again
     assert first.endswith("\n")
+    assert bf.fingerprint in first
 
 
-def test_default_fingerprint_is_the_budgets(end_gauge):
-    _, result = end_gauge
+def test_fingerprint_is_the_budgets(end_gauge):
+    bf, result = end_gauge
     expected = result_to_dict(result)["fingerprint"]
-    assert expected is not None
-    for fmt in ("html", "md", "csv"):
+    assert expected == result.fingerprint == bf.fingerprint
+    assert expected.startswith("sha256:")
+    for fmt in ("html", "md", "tex", "csv", "json"):
         assert expected in render_report(result, fmt)
+    # reports take no fingerprint of their own: it is the budget's
+    with pytest.raises(TypeError):
+        render_report(result, "md", fingerprint="sha256:0")  # type: ignore[call-arg]
 
 
 def test_unknown_format_and_extension(end_gauge, tmp_path):
@@ -244,7 +255,7 @@ def test_cli_writes_each_format(tmp_path, capsys, ext):
 def test_cli_higher_order(tmp_path):
     out = tmp_path / "h.json"
     assert main(["report", str(END_GAUGE), "-o", str(out), "--higher-order"]) == 0
-    assert json.loads(out.read_text(encoding="utf-8"))["method"] == "higher-order"
+    assert json.loads(out.read_text(encoding="utf-8"))["propagation"] == "higher-order"
 
 
 BROKEN_TOML = 'format = "viscometry-budget/1"\n[measurand\n'
@@ -278,6 +289,30 @@ def test_cli_failure_writes_nothing(tmp_path, capsys, content):
     assert main(["report", str(bad), "-o", str(old)]) == 2
     assert old.read_text(encoding="utf-8") == "previous report\n"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.toml", "old.md"]
+
+
+@pytest.mark.parametrize("spelling", ["same", "relative", "dotted", "symlink"])
+def test_cli_refuses_to_overwrite_its_own_budget_file(tmp_path, capsys, monkeypatch, spelling):
+    # a budget file saved as .json (an extension a report may have) must never be replaced by
+    # the report of itself, however the output path is written
+    budget = tmp_path / "budget.json"
+    budget.write_bytes(END_GAUGE.read_bytes())
+    before = budget.read_bytes()
+    (tmp_path / "sub").mkdir()
+    (tmp_path / "link.json").symlink_to(budget)
+    monkeypatch.chdir(tmp_path)
+    assert main(["evaluate", str(budget)]) == 0  # it is a readable budget file
+    capsys.readouterr()
+    out = {"same": str(budget), "relative": "budget.json", "dotted": "./sub/../budget.json",
+           "symlink": "link.json"}[spelling]  # fmt: skip
+    assert main(["report", str(budget), "-o", out]) == 2
+    captured = capsys.readouterr()
+    assert captured.out == ""
+    assert captured.err.startswith("viscometry: error: ")
+    assert "is the budget file itself" in captured.err
+    assert budget.read_bytes() == before  # byte for byte
+    assert (tmp_path / "link.json").is_symlink()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["budget.json", "link.json", "sub"]
 
 
 def test_cli_unknown_extension(tmp_path, capsys):

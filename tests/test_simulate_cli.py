@@ -18,8 +18,9 @@ from viscometry.gum import Budget, InputQuantity
 from viscometry.io import load_budget, save_budget
 
 KEYS = [
-    "trials", "seed", "value", "standard_uncertainty", "coverage_probability", "interval",
-    "validation", "fingerprint", "version",
+    "schema", "trials", "seed", "adaptive", "converged", "value", "standard_uncertainty",
+    "coverage_probability", "interval", "validation", "first_order", "warnings", "fingerprint",
+    "version", "source",
 ]  # fmt: skip
 
 
@@ -50,16 +51,32 @@ def _json(capsys, argv):
 def test_json_keys_and_values(capsys, r4_file):
     d = _json(capsys, ["simulate", str(r4_file), "--trials", "100000", "--seed", "5", "--json"])
     assert list(d) == KEYS
+    assert d["schema"] == "viscometry.simulate/1"
     assert list(d["interval"]) == ["low", "high", "kind"]
-    assert list(d["validation"]) == ["reference", "tolerance", "d_low", "d_high", "validated"]
+    assert list(d["validation"]) == [
+        "reference", "tolerance", "d_low", "d_high", "validated", "not_applicable",
+    ]  # fmt: skip
+    assert list(d["first_order"]) == [
+        "value", "standard_uncertainty", "coverage_factor", "expanded_uncertainty", "propagation",
+    ]  # fmt: skip
     assert d["trials"] == 100_000 and d["seed"] == 5
+    assert d["adaptive"] is False
     assert d["interval"]["kind"] == "symmetric"
     assert d["coverage_probability"] == 0.9545
     assert d["validation"]["reference"] == "first-order"
     assert d["validation"]["tolerance"] == pytest.approx(0.005)  # u = 0.20 mm⁴, n_dig = 2
     assert d["validation"]["validated"] is False  # exact analytic verdict (module docstring)
+    assert d["validation"]["not_applicable"] is None
+    # first-order reference of Y = R⁴: y = 1, u = 4·1³·0.05 = 0.2 mm⁴ (exact analytic)
+    assert d["first_order"]["value"] == pytest.approx(1.0, rel=1e-14)
+    assert d["first_order"]["standard_uncertainty"] == pytest.approx(0.2, rel=1e-12)
+    assert d["first_order"]["propagation"] == "first-order"
+    # the only warning: M = 10⁵ < 10⁴/(1 − 0.9545) ≈ 2.2·10⁵ trials (JCGM 101:2008, 7.2.2)
+    (warning,) = d["warnings"]
+    assert warning.startswith("M = 100000 Monte Carlo trials is fewer than") and "7.2.2" in warning
     assert d["fingerprint"] == load_budget(r4_file).fingerprint
     assert d["version"] == viscometry.__version__
+    assert d["source"] == str(r4_file)
 
 
 def test_json_is_reproducible_with_a_seed(capsys, r4_file):

@@ -31,6 +31,7 @@ from viscometry.gum import Budget, Correlation, InputQuantity
 from viscometry.gum.montecarlo import numerical_tolerance
 from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 from viscometry.io.json_out import dumps
+from viscometry.text import simulation_lines, validation_statement
 
 M = 100_000
 MU = 1.0  # mm
@@ -95,7 +96,9 @@ def test_r4_first_order_not_validated_at_large_u():
     assert sim.validation.d_high == pytest.approx(d_high, abs=0.008)
     assert sim.validated is False
     assert sim.validation.reference == "first-order"
-    assert sim.statement().startswith("first-order budget not validated at δ = 0.005 mm⁴")
+    assert validation_statement(sim.validation, sim.unit).startswith(
+        "first-order budget not validated at δ = 0.005 mm⁴"
+    )
 
 
 def test_r4_first_order_validated_at_small_u():
@@ -111,7 +114,9 @@ def test_r4_first_order_validated_at_small_u():
     # What is left is Monte Carlo noise: SE(quantile) ≈ 0.009·u ≈ 1.1e-5, i.e. δ ≈ 4.6 SE.
     assert sim.validation.tolerance == pytest.approx(delta)
     assert sim.validated is True
-    assert sim.statement().startswith("first-order budget validated at δ = 0.00005 mm⁴")
+    assert validation_statement(sim.validation, sim.unit).startswith(
+        "first-order budget validated at δ = 0.00005 mm⁴"
+    )
 
 
 def test_higher_order_reference_is_labelled_and_still_misses_the_mean_shift():
@@ -119,12 +124,13 @@ def test_higher_order_reference_is_labelled_and_still_misses_the_mean_shift():
     # JCGM 100:2008 eq. (10) for one input: u² = c²σ² + (½f''² + f'f''')σ⁴
     # = 16μ⁶σ² + (72 + 96)μ⁴σ⁴ (exact analytic derivatives of r⁴).
     expected = math.sqrt(16 * MU**6 * LARGE**2 + 168 * MU**4 * LARGE**4)
-    assert sim.first_order.method == "higher-order"
+    assert sim.first_order.propagation == "higher-order"
     assert sim.first_order.standard_uncertainty == pytest.approx(expected, rel=1e-12)
     assert sim.validation.reference == "higher-order"
     assert sim.to_dict()["validation"]["reference"] == "higher-order"
     assert sim.validated is False  # y is still μ⁴, not E[R⁴]
-    assert sim.statement().startswith("higher-order budget not validated")
+    assert validation_statement(sim.validation).startswith("higher-order budget not validated")
+    assert sim.to_dict()["first_order"]["propagation"] == "higher-order"
 
 
 # ------------------------------------------------------------------ reproducibility
@@ -230,7 +236,10 @@ def test_adaptive_run():
     sim = simulate_budget(_r4_budget(LARGE), adaptive=True, significant_digits=1, seed=34)
     assert sim.mc.converged is True
     assert sim.mc.batches is not None and sim.mc.trials == sim.mc.batches * 10_000
-    assert "stabilised" in sim.summary_lines()[1]
+    assert "stabilised" in simulation_lines(sim)[1]
+    # JCGM 101:2008, 7.2.2 concerns a fixed M; an adaptive run chooses its own
+    assert not any("7.2.2" in w for w in sim.warnings)
+    assert sim.to_dict()["adaptive"] is True and sim.to_dict()["converged"] is True
     with pytest.raises(InputError, match="not both"):
         simulate_budget(_r4_budget(LARGE), adaptive=True, trials=M)
 
@@ -266,15 +275,32 @@ def test_non_finite_model_values_raise_model_error():
 def test_to_dict_has_exactly_the_issue_keys():
     sim = simulate_budget(_r4_budget(LARGE), trials=M, seed=41)
     d = sim.to_dict()
+    # The keys of the migration guide ("One budget, one path"): the run, the Monte Carlo
+    # result, the validation and the first-order result it validated.
     assert list(d) == [
-        "trials", "seed", "value", "standard_uncertainty", "coverage_probability",
-        "interval", "validation",
+        "trials", "seed", "adaptive", "converged", "value", "standard_uncertainty",
+        "coverage_probability", "interval", "validation", "first_order",
     ]  # fmt: skip
     assert list(d["interval"]) == ["low", "high", "kind"]
-    assert list(d["validation"]) == ["reference", "tolerance", "d_low", "d_high", "validated"]
+    assert list(d["validation"]) == [
+        "reference", "tolerance", "d_low", "d_high", "validated", "not_applicable",
+    ]  # fmt: skip
+    assert list(d["first_order"]) == [
+        "value", "standard_uncertainty", "coverage_factor", "expanded_uncertainty", "propagation",
+    ]  # fmt: skip
     assert d["trials"] == M and d["value"] == sim.mc.value
+    assert d["adaptive"] is False and d["converged"] is False
     assert (d["interval"]["low"], d["interval"]["high"]) == sim.mc.interval
     assert d["validation"]["validated"] is False
+    assert d["validation"]["not_applicable"] is None
+    fo = sim.first_order
+    assert d["first_order"] == {
+        "value": fo.value,
+        "standard_uncertainty": fo.standard_uncertainty,
+        "coverage_factor": fo.coverage_factor,
+        "expanded_uncertainty": fo.expanded_uncertainty,
+        "propagation": "first-order",
+    }
     assert json.loads(dumps(d)) == d  # plain JSON types only
 
 
@@ -283,14 +309,17 @@ def test_result_is_frozen_and_text_is_complete():
     assert isinstance(sim, BudgetSimulation)
     with pytest.raises(dataclasses.FrozenInstanceError):
         sim.mc = None  # type: ignore[misc]
-    lines = sim.summary_lines()
-    assert len(lines) == 6
+    lines = simulation_lines(sim)
+    # six lines, then one "warning: " line per warning: here M = 10⁵ < 10⁴/(1 − p)
+    assert len(lines) == 6 + len(sim.warnings) and len(sim.warnings) == 1
     assert lines[0] == "Monte Carlo method (JCGM 101:2008): 100000 trials, seed 42"
     assert lines[2].startswith("y = ") and "u(y) = 0.0012 mm⁴" in lines[2]
     assert lines[3].startswith("95.45 % coverage interval (probabilistically symmetric): [")
     assert lines[4].startswith("first-order (JCGM 100:2008): y = 1.00000 mm⁴")
-    assert lines[-1] == sim.statement()
-    assert sim.to_text() == "\n".join(lines)
+    assert lines[5] == validation_statement(sim.validation, sim.unit)
+    assert lines[6:] == [f"warning: {w}" for w in sim.warnings]
+    for removed in ("statement", "summary_lines", "to_text"):
+        assert not hasattr(sim, removed)
     assert "budget=" not in repr(sim)  # the long budget is left out of the repr
 
 
@@ -300,12 +329,50 @@ def test_no_validation_when_a_t_input_has_infinite_variance():
     b = Budget.from_formula("y", "t", [InputQuantity.from_readings("t", [10.0, 10.2], "s")], "s")
     sim = simulate_budget(b, trials=20_000, seed=1)
     assert not sim.validated
-    assert "ν ≤ 2" in sim.statement()
-    assert "no finite variance" in sim.validation.statement
+    assert "ν ≤ 2" in validation_statement(sim.validation, sim.unit)
+    assert "no finite variance" in validation_statement(sim.validation)
+    assert sim.to_dict()["validation"]["not_applicable"] == sim.validation.not_applicable
 
 
 def test_no_validation_when_every_input_is_exact():
     b = Budget.from_formula("y", "a * 2", [InputQuantity.normal("a", 1.0, 0.0, "m")], "m")
     sim = simulate_budget(b, trials=1_000, seed=1)
     assert not sim.validated
-    assert "nothing to validate" in sim.validation.statement
+    assert "nothing to validate" in validation_statement(sim.validation)
+
+
+# ------------------------------------------------------------------ warnings
+def _trials_warning(sim):
+    return [w for w in sim.warnings if "JCGM 101:2008, 7.2.2" in w]
+
+
+def test_too_few_fixed_trials_for_the_coverage_probability_is_flagged():
+    # JCGM 101:2008, 7.2.2 (from memory): M should be large compared with 1/(1 − p), at
+    # least 10⁴ times; 10⁴/(1 − 0.9545) = 219 780.2 → 219 781 trials (exact arithmetic).
+    b = _r4_budget(SMALL)
+    sim = simulate_budget(b, trials=M, seed=51)
+    (note,) = _trials_warning(sim)
+    assert note.startswith(
+        "M = 100000 Monte Carlo trials is fewer than 10⁴/(1 − p) = 219781 for p = 95.45 % "
+        "(JCGM 101:2008, 7.2.2)"
+    )
+    assert "adaptive procedure" in note
+    assert simulation_lines(sim)[-1] == f"warning: {note}"
+    # enough trials: nothing to say
+    assert _trials_warning(simulate_budget(b, trials=219_781, seed=51)) == []
+    # p = 95 %: 10⁴/0.05 = 200 000 exactly
+    b95 = b.with_settings(coverage_probability=0.95)
+    assert _trials_warning(simulate_budget(b95, trials=200_000, seed=51)) == []
+    (note95,) = _trials_warning(simulate_budget(b95, trials=199_999, seed=51))
+    assert "M = 199999" in note95 and "= 200000 for p = 95.00 %" in note95
+
+
+def test_simulation_warnings_start_with_the_budget_warnings():
+    # The budget's own warnings (here u(x) >= |x|: JCGM 101 is the remedy it names) come
+    # first, then the run's.
+    b = Budget.from_formula("y", "x**2", [InputQuantity.normal("x", 0.5, 0.6, "mm")], "mm^2")
+    sim = simulate_budget(b, trials=20_000, seed=52)
+    fo_warnings = b.evaluate().warnings
+    assert any(w.startswith("u(x) = 0.6 mm is at least |x| = 0.5 mm") for w in fo_warnings)
+    assert sim.warnings[: len(fo_warnings)] == fo_warnings
+    assert len(_trials_warning(sim)) == 1 and sim.warnings[-1] == _trials_warning(sim)[0]

@@ -20,17 +20,13 @@ from pathlib import Path
 
 import pytest
 
-import viscometry.planning as planning
+import viscometry.planning.upgrades as upgrades
 from viscometry.errors import InputError
 from viscometry.gum import Budget, InputQuantity
-from viscometry.io.budget_file import load_budget
-from viscometry.planning import UpgradeCandidate, candidates_from_mapping, evaluate_upgrades
-from viscometry.widgets.upgrade_explorer import (
-    UpgradeExplorer,
-    cheapest_reaching,
-    format_u,
-    upgrade_explorer,
-)
+from viscometry.io import load_budget
+from viscometry.io.candidates import candidates_from_mapping
+from viscometry.planning import UpgradeCandidate, cheapest_reaching, evaluate_upgrades
+from viscometry.widgets.upgrade_explorer import UpgradeExplorer, format_u, upgrade_explorer
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLE = ROOT / "examples" / "primary_capillary_poiseuille.toml"
@@ -194,7 +190,7 @@ def test_ticks_only_look_results_up(linear: Budget, monkeypatch: pytest.MonkeyPa
     def forbidden(*_args: object, **_kw: object) -> None:
         raise AssertionError("re-evaluated on a tick")
 
-    monkeypatch.setattr(planning, "_evaluate_masks", forbidden)
+    monkeypatch.setattr(upgrades, "_evaluate", forbidden)
     monkeypatch.setattr(Budget, "evaluate", forbidden)
     ex.checkboxes["better a"].value = True
     ex.target.value = 20.0
@@ -203,7 +199,7 @@ def test_ticks_only_look_results_up(linear: Budget, monkeypatch: pytest.MonkeyPa
 
 def test_greedy_plan_evaluates_unvisited_sets_on_demand(linear: Budget) -> None:
     ex = make(linear, target=12.0, max_exhaustive=1)
-    assert ex.plan.method == "greedy"
+    assert ex.plan.search == "greedy"
     ex.checkboxes["better a"].value = True
     ex.checkboxes["better c"].value = True
     o = ex.selected_result()

@@ -29,8 +29,9 @@ from viscometry.demo import pressure_capillary_demo_budget
 from viscometry.errors import ModelError
 from viscometry.gum import Budget, Correlation, InputQuantity
 from viscometry.gum import model as model_module
+from viscometry.io import loads_budget
 from viscometry.plots import figure_png, pareto_data, pareto_figure
-from viscometry.report_text import budget_html
+from viscometry.text import budget_html, statement
 from viscometry.widgets import BudgetEditor, budget_editor
 
 # Exponents of the inputs in eta = pi r^4 rho_m g h t / (8 V L): the relative sensitivities.
@@ -112,7 +113,7 @@ def test_defaults_reproduce_the_budget_as_given(budget: Budget, editor: BudgetEd
     assert got.standard_uncertainty == expected.standard_uncertainty
     assert got.expanded_uncertainty == expected.expanded_uncertainty
     assert editor.table_html.value == budget_html(expected)
-    assert html.escape(expected.statement()) in editor.statement_html.value
+    assert html.escape(statement(expected)) in editor.statement_html.value
     assert "the budget as given" in editor.statement_html.value
     for q in budget.inputs:
         assert editor.controls[q.name].value == q.standard_uncertainty
@@ -174,7 +175,8 @@ def test_table_and_statement_text_follow_the_change(budget: Budget, editor: Budg
     assert row[-1] == f"{100 * cf['share_r']:.1f} %"  # variance share column
     value_text, u_text = rounded_statement_numbers(cf["eta"], cf["U"])
     statement = html.unescape(editor.statement_html.value)
-    assert f"eta = ({value_text} ± {u_text}) mPa·s" in statement
+    # the measurand eta is written with its symbol η
+    assert f"η = ({value_text} ± {u_text}) mPa·s" in statement
     assert f"k = {cf['k']:.2f}" in statement
     assert f"u(r): {u_r:.6g} → {u_r / 2:.6g} mm" in statement
     # Other rows keep their uncertainties.
@@ -316,3 +318,51 @@ def test_pareto_shows_correlation_cross_terms() -> None:
     assert data["b"] == pytest.approx(0.16 / 0.49, rel=1e-12)
     fig = pareto_figure(b.evaluate())
     assert "r(a, b)" in [t.get_text() for t in fig.axes[0].get_xticklabels()]
+
+
+# ------------------------------------------------------------------------ one budget, one path
+#: A glass-viscometer budget (built-in model) whose flow time, 149.98 s, is below the minimum;
+#: the same budget as in tests/test_cli.py, which checks the same warning on every other path.
+GLASS_BUDGET = """format = "viscometry-budget/1"
+title = "short flow time"
+[measurand]
+name = "nu"
+unit = "mm^2/s"
+method = "glass_capillary_kinetic"
+[inputs.C]
+value = 0.10012
+unit = "mm^2/s^2"
+expanded_uncertainty = 0.00018
+coverage_factor = 2
+[inputs.t]
+unit = "s"
+readings = [149.82, 150.11, 149.95, 150.04]
+[inputs.E]
+value = 0.0
+unit = "mm^2*s"
+distribution = "rectangular"
+half_width = 2.0
+"""
+#: 200 s: minimum flow time of a manually timed glass capillary viscometer, ISO 3104 /
+#: ASTM D445 (from memory); 150 s: the mean of the readings, 599.92/4 = 149.98 s (exact
+#: arithmetic), printed to 4 significant digits.
+FLOW_TIME_WARNING = (
+    "flow time 150 s is below the minimum 200 s (ISO 3104 / ASTM D445, manual timing)"
+)
+
+
+def _warnings_shown(statement_html: str) -> list[str]:
+    """The warning lines of the editor's statement, as a person reads them."""
+    lines = re.split(r"<br\s*/?>", statement_html)
+    texts = [html.unescape(re.sub(r"<[^>]+>", "", line)) for line in lines]
+    return [t for t in texts if t.startswith("warning: ")]
+
+
+def test_flow_time_warning_in_the_budget_editor_statement() -> None:
+    editor = budget_editor(loads_budget(GLASS_BUDGET, "glass.toml").budget, chart_dpi=40)
+    assert editor.current_result().warnings == (FLOW_TIME_WARNING,)
+    assert _warnings_shown(editor.statement_html.value) == [f"warning: {FLOW_TIME_WARNING}"]
+    # a what-if on an uncertainty keeps the estimate, hence the warning
+    editor.controls["C"].value = 0.00005
+    assert _warnings_shown(editor.statement_html.value) == [f"warning: {FLOW_TIME_WARNING}"]
+    assert "ν = (" in html.unescape(editor.statement_html.value)

@@ -5,8 +5,10 @@ module defines ``NAME`` (the subcommand), ``HELP`` (one line), ``add_arguments(p
 and ``run(args) -> int`` (the exit code). Errors the package raises on purpose
 (:class:`~viscometry.errors.ViscometryError`) are printed as one line,
 ``viscometry: error: <message>``, on standard error with exit code 2; ``--debug`` prints the
-traceback as well. Package warnings raised while a command runs are printed as
-``viscometry: warning: <message>`` lines on standard error.
+traceback as well. A budget's warnings are part of each command's output (``warning:``
+lines, or the ``warnings`` list of the JSON); a Python warning of the package raised while a
+command runs (none is expected) would be printed as ``viscometry: warning: <message>`` on
+standard error.
 """
 
 from __future__ import annotations

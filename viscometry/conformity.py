@@ -18,20 +18,17 @@ for a rejected one (false reject) (JCGM 106:2012, clause 9).
 Clause numbers of JCGM 106:2012 and ILAC G8:09/2019 below are cited from memory.
 
 All functions are pure and unit-agnostic: every value, limit and uncertainty passed to one
-call must be in the same unit (SI inside the package, e.g. [m²/s]); the optional ``unit``
-label of :func:`decide` is used only to word the statement.
+call must be in the same unit (SI inside the package, e.g. [m²/s]). The decision is put in
+words by :func:`viscometry.text.decision_statement`.
 
 .. caution:: :data:`DECISION_CAUTION` -- the decision rule is agreed with the customer and
    follows the laboratory's own procedures and accredited practice.
 
 Examples
 --------
->>> d = decide(9.88, 0.06, None, 10.0, rule="guarded", unit="mm²/s")
->>> d.verdict, round(d.conformance_probability, 4)
-('accept', 0.9772)
->>> print(d.statement)  # doctest: +NORMALIZE_WHITESPACE
-Accepted under guarded acceptance (w = 1.0·U = 0.12 mm²/s): the probability that the true
-value conforms is 97.7 %; the specific risk of a false accept is 2.3 %.
+>>> d = decide(9.88, 0.06, None, 10.0, rule="guarded")
+>>> d.verdict, round(d.conformance_probability, 4), d.risk_kind
+('accept', 0.9772, 'false accept')
 """
 
 from __future__ import annotations
@@ -40,7 +37,6 @@ import math
 from dataclasses import dataclass
 from typing import Literal
 
-import numpy as np
 from scipy import stats
 
 from viscometry._checks import finite as _finite
@@ -330,8 +326,6 @@ class ConformityDecision:
         accept), ``p_c`` if rejected (false reject). [1]
     risk_kind : {"false accept", "false reject"}
         Which risk ``specific_risk`` is.
-    statement : str
-        The decision in plain words.
     """
 
     verdict: Literal["accept", "reject"]
@@ -350,30 +344,6 @@ class ConformityDecision:
     conformance_probability: float
     specific_risk: float
     risk_kind: Literal["false accept", "false reject"]
-    statement: str
-
-
-def _percent(p: float) -> str:
-    """Word a probability as a percentage with one decimal, saying so at the extremes."""
-    pct = 100.0 * p
-    if pct < 0.1:
-        return "less than 0.1 %"
-    if pct > 99.9:
-        return "more than 99.9 %"
-    return f"{pct:.1f} %"
-
-
-def _two_digits(x: float) -> str:
-    """Word an uncertainty with two significant digits (JCGM 100:2008, 7.2.6), no exponent."""
-    if x == 0.0:
-        return "0"
-    text = np.format_float_positional(x, precision=2, unique=False, fractional=False)
-    return str(text).rstrip(".")
-
-
-def _factor(r: float) -> str:
-    text = f"{r:.3g}"
-    return text if ("." in text or "e" in text) else text + ".0"
 
 
 def decide(
@@ -386,7 +356,6 @@ def decide(
     dof: float = math.inf,
     rule: DecisionRule = "simple",
     guard_factor: float = 1.0,
-    unit: str = "",
 ) -> ConformityDecision:
     """Decide conformity of a result with a tolerance interval under a decision rule.
 
@@ -413,13 +382,10 @@ def decide(
     guard_factor : float, optional
         ``r`` in ``w = r U`` for ``rule="guarded"`` (default 1), non-negative; ignored (set
         to 0) under simple acceptance. [1]
-    unit : str, optional
-        Unit label used only in the statement, e.g. ``"mm²/s"``; nothing is converted.
-
     Returns
     -------
     ConformityDecision
-        Verdict, limits, conformance probability, specific risk and plain statement.
+        Verdict, limits, conformance probability and specific risk.
 
     Raises
     ------
@@ -454,8 +420,6 @@ def decide(
     k = _positive(coverage_factor, "coverage_factor")
     nu = _dof(dof)
     lo, up = _limits(lower, upper)
-    if not isinstance(unit, str):
-        raise InputError(f"unit must be a string label, got {unit!r}")
 
     big_u = k * u
     r = _non_negative(guard_factor, "guard_factor") if rule == "guarded" else 0.0
@@ -470,16 +434,6 @@ def decide(
     )
     risk = p_out if inside else p_in
 
-    unit_text = f" {unit}" if unit else ""
-    if rule == "guarded":
-        how = f"guarded acceptance (w = {_factor(r)}·U = {_two_digits(w)}{unit_text})"
-    else:
-        how = "simple acceptance (w = 0)"
-    statement = (
-        f"{'Accepted' if inside else 'Rejected'} under {how}: the probability that the true "
-        f"value conforms is {_percent(p_in)}; the specific risk of a {risk_kind} is "
-        f"{_percent(risk)}."
-    )
     return ConformityDecision(
         verdict=verdict,
         rule=rule,
@@ -497,5 +451,4 @@ def decide(
         conformance_probability=p_in,
         specific_risk=risk,
         risk_kind=risk_kind,
-        statement=statement,
     )

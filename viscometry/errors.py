@@ -22,7 +22,22 @@ __all__ = [
 
 
 class ViscometryError(Exception):
-    """Base class of every error this package raises on purpose."""
+    """Base class of every error this package raises on purpose.
+
+    Parameters
+    ----------
+    *args
+        The message (one string that names the field and the value).
+    where : str, optional
+        The part of a budget the error is about, as a budget file names it: ``"inputs.r"``,
+        ``"constants.T_ref"``, ``"checks.flow_volume"``, ``"correlations"`` or
+        ``"measurand"``. Readers of files and widgets use it to point at the right table or
+        field; the message itself never depends on it.
+    """
+
+    def __init__(self, *args: object, where: str | None = None) -> None:
+        super().__init__(*args)
+        self.where = where
 
 
 class InputError(ViscometryError, ValueError):

@@ -18,7 +18,7 @@ from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 from scipy import stats
 
-from viscometry import units as _units
+from viscometry.text import decimals_for, format_percent, format_unit, symbol
 
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.simulation import BudgetSimulation
@@ -142,7 +142,7 @@ def monte_carlo_figure(
     else:
         fig = ax.figure  # type: ignore[assignment]
     mc, fo = sim.mc, sim.first_order
-    unit = _units.format_unit(sim.unit) if sim.unit else ""
+    unit = format_unit(sim.unit)
     unit_text = f" {unit}" if unit else ""
     density, edges = histogram_density(sim)
     ax.stairs(
@@ -167,12 +167,12 @@ def monte_carlo_figure(
         first_order_density(sim, x),
         color="tab:orange",
         linewidth=1.8,
-        label=f"{fo.method} PDF ({shape})",
+        label=f"{fo.propagation} PDF ({shape})",
     )
-    dec = _decimals(sim.validation.tolerance)
+    dec = decimals_for(sim.validation.tolerance)
     low, high = mc.interval
     kind = "symmetric" if mc.interval_kind == "symmetric" else "shortest"
-    p = f"{100 * mc.coverage_probability:.2f}".rstrip("0").rstrip(".")
+    p = format_percent(mc.coverage_probability)
     for i, xv in enumerate((low, high)):
         ax.axvline(
             xv,
@@ -189,23 +189,19 @@ def monte_carlo_figure(
             color="tab:orange",
             linestyle="--",
             linewidth=1.4,
-            label=(f"{fo.method} y ± U [{f_low:.{dec}f}, {f_high:.{dec}f}]" if i == 0 else None),
+            label=(
+                f"{fo.propagation} y ± U [{f_low:.{dec}f}, {f_high:.{dec}f}]" if i == 0 else None
+            ),
         )
-    ax.set_xlabel(f"{sim.measurand} / {unit}" if unit else sim.measurand)
+    name = symbol(sim.measurand)
+    ax.set_xlabel(f"{name} / {unit}" if unit else name)
     ax.set_ylabel(f"probability density / ({unit})⁻¹" if unit else "probability density")
-    ax.set_ylim(bottom=0.0)
+    ax.set_ylim(0.0, 1.45 * float(max(np.max(density), np.max(first_order_density(sim, x)))))
     verdict = "validated" if sim.validated else "not validated"
     delta = f"{sim.validation.tolerance:.{dec}f}{unit_text}"
     ax.set_title(
-        title
-        if title is not None
-        else f"{sim.measurand}: {fo.method} budget {verdict} at δ = {delta}"
+        title if title is not None else f"{name}: {fo.propagation} budget {verdict} at δ = {delta}"
     )
-    ax.legend(loc="upper right", fontsize=7)
+    # The headroom above the densities (y limit 1.45 × the peak) holds the legend.
+    ax.legend(loc="upper center", fontsize=7, ncols=2)
     return fig  # type: ignore[return-value]
-
-
-def _decimals(tolerance: float) -> int:
-    if not (tolerance > 0 and math.isfinite(tolerance)):
-        return 6
-    return max(0, -math.floor(math.log10(tolerance) + 1e-12))

@@ -1,4 +1,4 @@
-"""Charts for planning results: U across a sweep, and U before/after upgrade candidates.
+"""Charts for planning results: U across the working range, and U before/after upgrades.
 
 Edge layer (matplotlib). Figures are built with :class:`matplotlib.figure.Figure` directly,
 not through ``pyplot``, so they work under the Agg backend, leave no global state behind
@@ -13,14 +13,14 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from viscometry.errors import InputError
-from viscometry.planning import SweepResult, UpgradePlan
-from viscometry.units import format_unit
+from viscometry.planning import UpgradePlan, WorkingRange
+from viscometry.text import format_cost, format_unit, symbol
 
-__all__ = ["plot_sweep", "plot_upgrades"]
+__all__ = ["plot_working_range", "plot_upgrades"]
 
 
-def plot_sweep(
-    result: SweepResult,
+def plot_working_range(
+    result: WorkingRange,
     *,
     relative: bool = False,
     axis: str = "input",
@@ -28,16 +28,16 @@ def plot_sweep(
     scope: Any = None,
     figsize: tuple[float, float] = (7.0, 4.0),
 ) -> Figure:
-    """U (or U/|y|) across a sweep, each point coloured by its dominant input.
+    """U (or U/|y|) across the working range, each point coloured by its dominant input.
 
     Parameters
     ----------
-    result : SweepResult
-        From :func:`viscometry.planning.sweep`.
+    result : WorkingRange
+        From :func:`viscometry.planning.working_range`.
     relative : bool
         Plot the relative expanded uncertainty in percent instead of U [measurand unit].
     axis : {"input", "value"}
-        x axis: the swept input (default) or the measurand value.
+        x axis: the input the range runs over (default) or the measurand value.
     log_x : bool or None
         Logarithmic x axis; None chooses log when the x values span more than a factor 50
         and are all positive.
@@ -53,21 +53,21 @@ def plot_sweep(
     """
     if axis == "input":
         x = np.asarray(result.values)
-        xunit = format_unit(result.over_unit) if result.over_unit else "1"
-        xlabel = f"{result.over} [{xunit}]"
+        xunit = format_unit(result.over_unit) or "1"
+        xlabel = f"{symbol(result.over)} / {xunit}"
     elif axis == "value":
         x = np.asarray(result.value)
-        xunit = format_unit(result.unit) if result.unit else "1"
-        xlabel = f"{result.measurand} [{xunit}]"
+        xunit = format_unit(result.unit) or "1"
+        xlabel = f"{symbol(result.measurand)} / {xunit}"
     else:
         raise InputError(f"axis must be 'input' or 'value', got {axis!r}")
-    unit = format_unit(result.unit) if result.unit else "1"
+    unit = format_unit(result.unit) or "1"
     if relative:
         y = 100.0 * np.asarray(result.relative_expanded_uncertainty)
-        ylabel = "relative expanded uncertainty U/|y| [%]"
+        ylabel = "relative expanded uncertainty U/|y| / %"
     else:
         y = np.asarray(result.expanded_uncertainty)
-        ylabel = f"expanded uncertainty U [{unit}]"
+        ylabel = f"expanded uncertainty U / {unit}"
     if log_x is None:
         log_x = bool(np.all(x > 0) and x.max() / x.min() > 50)
     fig = Figure(figsize=figsize, layout="constrained")
@@ -83,16 +83,16 @@ def plot_sweep(
         if not (relative and axis == "value"):
             raise InputError("scope steps need relative=True and axis='value'")
         for row in scope.itertuples(index=False):
-            ax.hlines(100.0 * row[scope.columns.get_loc("stated relative U")],
+            ax.hlines(100.0 * row[scope.columns.get_loc("stated_relative_expanded_uncertainty")],
                       row[0], row[1], colors="k", linestyles="--", linewidth=1.2)  # fmt: skip
         ax.plot([], [], "k--", label="stated (scope table)")
     if log_x:
         ax.set_xscale("log")
     ax.set_xlabel(xlabel)
     ax.set_ylabel(ylabel)
-    ax.set_title(f"{result.measurand}: U across {result.over}")
-    ax.set_ylim(bottom=0)
-    ax.legend(fontsize="small")
+    ax.set_title(f"{symbol(result.measurand)}: U across the range of {symbol(result.over)}")
+    ax.set_ylim(bottom=0, top=1.25 * float(np.nanmax(y)) if np.isfinite(np.nanmax(y)) else None)
+    ax.legend(fontsize="small", loc="upper left", ncols=2)
     ax.grid(True, alpha=0.3)
     return fig
 
@@ -133,7 +133,7 @@ def plot_upgrades(
         options = options[: max(int(top), 1)]
     if not options:
         raise InputError("no upgrade options to plot")
-    unit = format_unit(plan.unit) if plan.unit else "1"
+    unit = format_unit(plan.unit) or "1"
     base = plan.baseline.expanded_uncertainty
     n = len(options)
     fig = Figure(figsize=figsize or (7.0, 1.2 + 0.45 * n), layout="constrained")
@@ -143,15 +143,16 @@ def plot_upgrades(
     after = [o.expanded_uncertainty for o in options]
     ax.barh(ypos, after, color="tab:blue", label="after", height=0.4)
     for yp, o in zip(ypos, options, strict=True):
-        ax.text(o.expanded_uncertainty, yp, f"  {o.expanded_uncertainty:.3g} (cost {o.cost:g})",
+        ax.text(o.expanded_uncertainty, yp, f"  {o.expanded_uncertainty:.3g} (cost {format_cost(o.cost)})",
                 va="center", fontsize="small")  # fmt: skip
     ax.set_yticks(ypos, [o.label for o in options])
     if plan.target is not None:
         ax.axvline(plan.target, color="tab:red", linestyle="--", label=f"target {plan.target:.3g}")
-    ax.set_xlabel(f"expanded uncertainty U [{unit}]")
+    ax.set_xlabel(f"expanded uncertainty U / {unit}")
     ax.set_xlim(0, max(base, max(after)) * 1.35)
+    ax.set_ylim(-0.6, n - 0.4 + 0.9)  # room above the bars for the legend
     ax.set_title("U before and after each upgrade")
-    ax.legend(fontsize="small", loc="lower right")
+    ax.legend(fontsize="small", loc="upper right", ncols=3)
     return fig
 
 

@@ -19,6 +19,8 @@ from matplotlib.figure import Figure
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import BudgetResult
 
+from viscometry.text import symbol
+
 __all__ = ["pareto_data", "pareto_figure", "figure_png"]
 
 
@@ -119,16 +121,17 @@ def pareto_figure(
     ax.plot(positions, cumulative, color="tab:orange", marker="o", label="cumulative")
     ax.set_xticks(positions, labels)
     ax.set_ylabel("share of combined variance / %")
+    # Headroom above 100 % holds the legend, clear of the bars and the cumulative line.
     top = max(
-        105.0,
-        float(np.max(cumulative, initial=0.0)) + 5.0,
-        float(np.max(shares, initial=0.0)) + 8.0,
+        130.0,
+        float(np.max(cumulative, initial=0.0)) + 30.0,
+        float(np.max(shares, initial=0.0)) + 30.0,
     )
     bottom = min(0.0, float(np.min(shares, initial=0.0)) - 5.0)
     ax.set_ylim(bottom, top)
     ax.axhline(0.0, color="black", linewidth=0.6)
-    ax.set_title(title if title is not None else f"Variance shares of {result.measurand}")
-    ax.legend(loc="center right", fontsize=8)
+    ax.set_title(title if title is not None else f"Variance shares of {symbol(result.measurand)}")
+    ax.legend(loc="upper left", fontsize=8, ncols=2)
     return fig  # type: ignore[return-value]
 
 

@@ -23,10 +23,8 @@ Examples
 >>> s = en_score(1.0050, 0.0030, 1.0034, 0.0020)
 >>> s.classification
 'satisfactory'
->>> print(s.statement)
-E_n = 0.44: satisfactory, since |E_n| <= 1.
->>> print(z_score(12.5, 10.0, 1.0).statement)
-z = 2.50: questionable (warning signal), since 2 < |z| < 3.
+>>> z_score(12.5, 10.0, 1.0).classification
+'questionable'
 """
 
 from __future__ import annotations
@@ -62,8 +60,6 @@ WARNING_LIMIT: float = 2.0
 #: |z|, |z′|, |zeta| at or above this is an action signal (same sources).
 ACTION_LIMIT: float = 3.0
 
-_SYMBOL: dict[str, str] = {"E_n": "E_n", "z": "z", "z'": "z′", "zeta": "ζ"}
-
 
 @dataclass(frozen=True)
 class Score:
@@ -76,62 +72,30 @@ class Score:
     value : float
         The score. [1]
     classification : {"satisfactory", "questionable", "unsatisfactory"}
-        Performance class (E_n has no "questionable" class).
-    statement : str
-        The score and its class in plain words, the number to two decimals.
+        Performance class (E_n has no "questionable" class);
+        :func:`viscometry.text.score_statement` puts it in words.
     """
 
     kind: ScoreKind
     value: float
     classification: Classification
-    statement: str
 
 
 # --------------------------------------------------------------------------- helpers
 
 
-def _number(x: float) -> str:
-    text = f"{x:.2f}"
-    return "0.00" if text == "-0.00" else text
-
-
 def _make(kind: ScoreKind, value: float) -> Score:
     if not math.isfinite(value):  # only by overflow of a huge difference over a tiny scale
         raise InputError(f"{kind} score is not finite ({value!r}); check the magnitudes")
-    sym = _SYMBOL[kind]
     a = abs(value)
+    cls: Classification
     if kind == "E_n":
-        thresholds: tuple[float, ...] = (EN_LIMIT,)
-        if a <= EN_LIMIT:
-            cls: Classification = "satisfactory"
-            why = f"|{sym}| <= 1"
-        else:
-            cls = "unsatisfactory"
-            why = f"|{sym}| > 1"
+        cls = "satisfactory" if a <= EN_LIMIT else "unsatisfactory"
+    elif a <= WARNING_LIMIT:
+        cls = "satisfactory"
     else:
-        thresholds = (WARNING_LIMIT, ACTION_LIMIT)
-        if a <= WARNING_LIMIT:
-            cls = "satisfactory"
-            why = f"|{sym}| <= 2"
-        elif a < ACTION_LIMIT:
-            cls = "questionable"
-            why = f"2 < |{sym}| < 3"
-        else:
-            cls = "unsatisfactory"
-            why = f"|{sym}| >= 3"
-    label = {
-        "satisfactory": "satisfactory",
-        "questionable": "questionable (warning signal)",
-        "unsatisfactory": "unsatisfactory" if kind == "E_n" else "unsatisfactory (action signal)",
-    }[cls]
-    shown = _number(value)
-    # Two decimals can hide which side of a threshold the score is on; say so in words.
-    note = ""
-    for t in thresholds:
-        if abs(float(shown)) == t and a != t:
-            note = f" (|{sym}| just {'above' if a > t else 'below'} {t:g})"
-    statement = f"{sym} = {shown}{note}: {label}, since {why}."
-    return Score(kind=kind, value=value, classification=cls, statement=statement)
+        cls = "questionable" if a < ACTION_LIMIT else "unsatisfactory"
+    return Score(kind=kind, value=value, classification=cls)
 
 
 # --------------------------------------------------------------------------- scores
@@ -328,8 +292,9 @@ def zeta_score(
 
     Examples
     --------
-    >>> print(zeta_score(7.0, 0.75, 10.0, 1.0).statement)
-    ζ = -2.40: questionable (warning signal), since 2 < |ζ| < 3.
+    >>> s = zeta_score(7.0, 0.75, 10.0, 1.0)
+    >>> round(s.value, 2), s.classification
+    (-2.4, 'questionable')
     """
     x = _finite(lab_value, "lab_value")
     u_lab = _positive(lab_standard_uncertainty, "lab_standard_uncertainty")

@@ -32,9 +32,17 @@ import re
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
-from viscometry import units as _units
 from viscometry.errors import InputError
-from viscometry.report_text import format_dof, format_number, table_rows
+from viscometry.text import (
+    HEADERS,
+    format_dof,
+    format_number,
+    format_unit,
+    one_line,
+    statement,
+    symbol,
+    table_rows,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import BudgetResult
@@ -179,10 +187,6 @@ def markdown_escape(text: str) -> str:
     return " ".join(text.split()) if ("\n" in text or "\r" in text) else text
 
 
-def _one_line(text: str) -> str:
-    return " ".join(str(text).split())
-
-
 def _csv_text(text: str) -> str:
     """A text cell a spreadsheet will not run as a formula (OWASP CSV injection advice)."""
     text = str(text)
@@ -235,17 +239,10 @@ def _normalise_format(fmt: str) -> ReportFormat:
 
 
 def _title(result: BudgetResult) -> str:
-    return result.budget.title or f"Uncertainty budget of {result.measurand}"
+    return result.budget.title or f"Uncertainty budget of {symbol(result.measurand)}"
 
 
-def _unit(unit: str) -> str:
-    return _units.format_unit(unit) if unit else ""
-
-
-_COLUMNS = (
-    "quantity", "estimate", "unit", "u(x)", "distribution", "type", "dof", "c",
-    "unit of c", "rel. c", "c·u(x)", "share",
-)  # fmt: skip
+_unit = format_unit
 
 
 def _rows(result: BudgetResult) -> list[list[str]]:
@@ -255,7 +252,7 @@ def _rows(result: BudgetResult) -> list[list[str]]:
 
 def _headers(result: BudgetResult) -> list[str]:
     unit = _unit(result.unit)
-    heads = list(_COLUMNS)
+    heads = list(HEADERS)
     if unit:
         heads[10] = f"c·u(x) / {unit}"
     return heads
@@ -282,7 +279,7 @@ def _summary(result: BudgetResult) -> list[tuple[str, str]]:
         ("coverage factor k", f"{result.coverage_factor:.3f} ({result.coverage_factor_source})"),
         ("expanded uncertainty U", f"{format_number(result.expanded_uncertainty, 4)}{u}"),
         ("relative expanded uncertainty U/|y|", rel_text),
-        ("method", result.method),
+        ("propagation", result.propagation),
     ]
 
 
@@ -290,14 +287,6 @@ def _version() -> str:
     from viscometry import __version__
 
     return __version__
-
-
-def _fingerprint(result: BudgetResult, fingerprint: str | None) -> str | None:
-    if fingerprint is not None:
-        return str(fingerprint)
-    from viscometry.io.json_out import result_to_dict
-
-    return result_to_dict(result)["fingerprint"]
 
 
 def _model_latex(result: BudgetResult) -> tuple[str, list[tuple[str, str]]]:
@@ -367,9 +356,6 @@ _NUMERIC = {1, 3, 6, 7, 9, 10, 11}
 def _render_html(result: BudgetResult, fingerprint: str | None, figures: bool) -> str:
     e = html.escape
     title = _title(result)
-    model = result.budget.model
-    eq_latex, sens_latex = _model_latex(result)
-    eq_mathml, sens_mathml = _model_mathml(result)
     out: list[str] = [
         "<!DOCTYPE html>",
         '<html lang="en">',
@@ -382,9 +368,41 @@ def _render_html(result: BudgetResult, fingerprint: str | None, figures: bool) -
         "</head>",
         "<body>",
         f"<h1>{e(title)}</h1>",
-        f'<p class="statement">{e(result.statement())}</p>',
-        "<h2>Measurement model</h2>",
+        f'<p class="statement">{e(statement(result))}</p>',
     ]
+    out += _html_model(result) + _html_budget(result) + _html_result(result)
+    if figures:
+        png = _pareto_png(result)
+        if png is not None:
+            data = base64.b64encode(png).decode("ascii")
+            out += [
+                "<h2>Variance shares</h2>",
+                f'<img alt="Pareto chart of the variance shares of {e(result.measurand)}" '
+                f'src="data:image/png;base64,{data}">',
+            ]
+    out += [
+        "<h2>Provenance</h2>",
+        "<table><tbody>",
+        f"<tr><th>fingerprint</th><td><code>{e(fingerprint or 'not available')}</code></td></tr>",
+        f"<tr><th>software</th><td>viscometry {e(_version())}</td></tr>",
+        "</tbody></table>",
+        "<footer>",
+        *(f"<p>{e(text)}</p>" for text in CAUTIONS),
+        "</footer>",
+        "</body>",
+        "</html>",
+        "",
+    ]
+    return "\n".join(out)
+
+
+def _html_model(result: BudgetResult) -> list[str]:
+    """The model as written, as MathML with its LaTeX, and the sensitivity coefficients."""
+    e = html.escape
+    model = result.budget.model
+    eq_latex, sens_latex = _model_latex(result)
+    eq_mathml, sens_mathml = _model_mathml(result)
+    out = ["<h2>Measurement model</h2>"]
     if model.formula:
         out.append(f"<p>As written: <code>{e(model.output_name)} = {e(model.formula)}</code></p>")
     out += [
@@ -411,8 +429,13 @@ def _render_html(result: BudgetResult, fingerprint: str | None, figures: bool) -
         "<p>The symbolic coefficients apply to the quantities in SI units; the value column "
         "gives them in the units of the budget.</p>"
     )
+    return out
 
-    out.append("<h2>Uncertainty budget</h2>")
+
+def _html_budget(result: BudgetResult) -> list[str]:
+    """The budget table with descriptions and sources, and the constants."""
+    e = html.escape
+    out = ["<h2>Uncertainty budget</h2>"]
     heads = _headers(result) + ["description", "source"]
     out.append("<table><thead><tr>" + "".join(f"<th>{e(h)}</th>" for h in heads) + "</tr></thead>")
     out.append("<tbody>")
@@ -432,45 +455,26 @@ def _render_html(result: BudgetResult, fingerprint: str | None, figures: bool) -
             out.append(
                 f'<tr><td>{e(k.name)}</td><td class="n">{k.value:.10g}</td>'
                 f"<td>{e(_unit(k.unit) or '1')}</td><td>{e(k.description)}</td>"
-                f"<td>{e(getattr(k, 'source', ''))}</td></tr>"
+                f"<td>{e(k.source)}</td></tr>"
             )
         out.append("</tbody></table>")
+    return out
 
-    out.append("<h2>Result</h2><table><tbody>")
+
+def _html_result(result: BudgetResult) -> list[str]:
+    """The combined result, the statement and the warnings."""
+    e = html.escape
+    out = ["<h2>Result</h2><table><tbody>"]
     for label, value in _summary(result):
         out.append(f'<tr><th>{e(label)}</th><td class="n">{e(value)}</td></tr>')
-    out.append(f"<tr><th>result statement</th><td>{e(result.statement())}</td></tr>")
+    out.append(f"<tr><th>result statement</th><td>{e(statement(result))}</td></tr>")
     out.append("</tbody></table>")
-
     out.append("<h2>Warnings</h2>")
     if result.warnings:
-        out.append('<ul class="warnings">')
-        out += [f"<li>{e(w)}</li>" for w in result.warnings]
-        out.append("</ul>")
+        out += ['<ul class="warnings">', *(f"<li>{e(w)}</li>" for w in result.warnings), "</ul>"]
     else:
         out.append("<p>None.</p>")
-
-    if figures:
-        png = _pareto_png(result)
-        if png is not None:
-            data = base64.b64encode(png).decode("ascii")
-            out += [
-                "<h2>Variance shares</h2>",
-                f'<img alt="Pareto chart of the variance shares of {e(result.measurand)}" '
-                f'src="data:image/png;base64,{data}">',
-            ]
-
-    out += [
-        "<h2>Provenance</h2>",
-        "<table><tbody>",
-        f"<tr><th>fingerprint</th><td><code>{e(fingerprint or 'not available')}</code></td></tr>",
-        f"<tr><th>software</th><td>viscometry {e(_version())}</td></tr>",
-        "</tbody></table>",
-        "<footer>",
-    ]
-    out += [f"<p>{e(text)}</p>" for text in CAUTIONS]
-    out += ["</footer>", "</body>", "</html>", ""]
-    return "\n".join(out)
+    return out
 
 
 def _render_markdown(result: BudgetResult, fingerprint: str | None) -> str:
@@ -480,7 +484,7 @@ def _render_markdown(result: BudgetResult, fingerprint: str | None) -> str:
     out = [
         f"# {m(_title(result))}",
         "",
-        f"**Result:** {m(result.statement())}",
+        f"**Result:** {m(statement(result))}",
         "",
         "## Measurement model",
         "",
@@ -512,7 +516,7 @@ def _render_markdown(result: BudgetResult, fingerprint: str | None) -> str:
     out += [f"- {m(w)}" for w in result.warnings] or ["None."]
     out += [
         "",
-        f"Fingerprint: `{_one_line(fingerprint or 'not available').replace('`', '')}`  ",
+        f"Fingerprint: `{one_line(fingerprint or 'not available').replace('`', '')}`  ",
         f"Software: viscometry {m(_version())}",
         "",
         "---",
@@ -527,8 +531,8 @@ def _render_latex(result: BudgetResult, fingerprint: str | None) -> str:
     heads = _headers(result)
     spec = "".join("r" if i in _NUMERIC else "l" for i in range(len(heads)))
     out = [
-        f"% Uncertainty budget, viscometry {_one_line(_version())}; "
-        f"fingerprint {_one_line(fingerprint or 'not available')}",
+        f"% Uncertainty budget, viscometry {one_line(_version())}; "
+        f"fingerprint {one_line(fingerprint or 'not available')}",
         "% Fragment: \\input{} it into a document (UTF-8, no extra packages needed).",
         "\\begin{center}",
         f"\\textbf{{{t(_title(result))}}}\\par\\medskip",
@@ -550,7 +554,7 @@ def _render_latex(result: BudgetResult, fingerprint: str | None) -> str:
         ]
         out += [f"{t(c.name)} & {t(c.description)} & {t(c.source)} \\\\" for c in described]
         out += ["\\hline", "\\end{tabular}", "\\end{center}", ""]
-    out.append(f"\\noindent Result: {t(result.statement())}\\par")
+    out.append(f"\\noindent Result: {t(statement(result))}\\par")
     for w in result.warnings:
         out.append(f"\\noindent Warning: {t(w)}\\par")
     out.append("")
@@ -567,9 +571,9 @@ def _render_csv(result: BudgetResult, fingerprint: str | None) -> str:
     unit = result.unit
     lines = [
         "# result (second section; read the table above with pandas.read_csv(path, comment='#'))",
-        f"# title: {_one_line(_title(result))}",
+        f"# title: {one_line(_title(result))}",
         f"# measurand: {result.measurand}",
-        f"# unit: {_one_line(_unit(unit))}",
+        f"# unit: {one_line(_unit(unit))}",
         f"# value: {result.value!r}",
         f"# standard_uncertainty: {result.standard_uncertainty!r}",
         f"# effective_dof: {result.effective_dof!r}",
@@ -577,12 +581,12 @@ def _render_csv(result: BudgetResult, fingerprint: str | None) -> str:
         f"# coverage_factor: {result.coverage_factor!r}",
         f"# expanded_uncertainty: {result.expanded_uncertainty!r}",
         f"# relative_expanded_uncertainty: {result.relative_expanded_uncertainty!r}",
-        f"# method: {result.method}",
-        f"# statement: {_one_line(result.statement())}",
+        f"# propagation: {result.propagation}",
+        f"# statement: {one_line(statement(result))}",
     ]
-    lines += [f"# warning: {_one_line(w)}" for w in result.warnings]
+    lines += [f"# warning: {one_line(w)}" for w in result.warnings]
     lines += [
-        f"# fingerprint: {_one_line(fingerprint or '')}",
+        f"# fingerprint: {one_line(fingerprint or '')}",
         f"# version: viscometry {_version()}",
     ]
     return body + "\n".join(lines) + "\n"
@@ -591,17 +595,11 @@ def _render_csv(result: BudgetResult, fingerprint: str | None) -> str:
 def _render_json(result: BudgetResult, fingerprint: str | None) -> str:
     from viscometry.io.json_out import dumps, result_to_dict
 
-    return dumps(result_to_dict(result, fingerprint=fingerprint)) + "\n"
+    return dumps(result_to_dict(result, kind="report")) + "\n"
 
 
 # --------------------------------------------------------------------------- public API
-def render_report(
-    result: BudgetResult,
-    fmt: str,
-    *,
-    fingerprint: str | None = None,
-    figures: bool = True,
-) -> str | bytes:
+def render_report(result: BudgetResult, fmt: str, *, figures: bool = True) -> str:
     """Render an evaluated budget as report text.
 
     Parameters
@@ -610,9 +608,6 @@ def render_report(
         The evaluated budget (measurand values in its unit, inputs in their own units).
     fmt : {"html", "md", "tex", "csv", "json"}
         Report format (also accepted: ``"markdown"``, ``"latex"``, ``"htm"``, a leading dot).
-    fingerprint : str, optional
-        The budget file's fingerprint (``"sha256:..."``). When omitted it is computed from
-        the budget's own description, as :func:`viscometry.io.json_out.result_to_dict` does.
     figures : bool
         Embed the Pareto chart of variance shares (HTML only).
 
@@ -641,12 +636,12 @@ def render_report(
     >>> from viscometry.gum import Budget, InputQuantity
     >>> b = Budget.from_formula("y", "a + b", [InputQuantity.normal("a", 1.0, 0.3, "mm"),
     ...                                        InputQuantity.normal("b", 2.0, 0.4, "mm")], "mm")
-    >>> text = render_report(b.evaluate(), "md", fingerprint="sha256:0")
+    >>> text = render_report(b.evaluate(), "md")
     >>> "y = (3.0 ± 1.0) mm" in text
     True
     """
     kind = _normalise_format(fmt)
-    fp = _fingerprint(result, fingerprint)
+    fp = result.fingerprint
     if kind == "html":
         return _render_html(result, fp, figures)
     if kind == "md":
@@ -662,8 +657,8 @@ def write_report(
     result: BudgetResult,
     path: str | os.PathLike[str],
     *,
-    fingerprint: str | None = None,
     figures: bool = True,
+    overwrite: bool = True,
 ) -> Path:
     """Write a report whose format follows the file extension, atomically.
 
@@ -675,10 +670,10 @@ def write_report(
         Output file ending in ``.html`` (or ``.htm``), ``.md``, ``.tex``, ``.csv`` or
         ``.json``; its directory must exist. An existing file is replaced only once the
         complete report has been rendered and written.
-    fingerprint : str, optional
-        The budget file's fingerprint; see :func:`render_report`.
     figures : bool
         Embed the Pareto chart (HTML only).
+    overwrite : bool
+        False refuses to replace an existing file.
 
     Returns
     -------
@@ -710,12 +705,10 @@ def write_report(
         raise InputError(
             f"report path {str(target)!r}: directory {str(directory)!r} does not exist"
         )
-    text = render_report(result, kind, fingerprint=fingerprint, figures=figures)
+    if not overwrite and (target.exists() or target.is_symlink()):
+        raise InputError(f"report path {str(target)!r} exists already; not replaced")
+    text = render_report(result, kind, figures=figures)
     try:
-        if isinstance(text, bytes):  # pragma: no cover - every current format is text
-            from viscometry.io.atomic import atomic_write_bytes
-
-            return atomic_write_bytes(target, text)
         return atomic_write_text(target, text)
     except OSError as exc:
         raise InputError(

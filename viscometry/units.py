@@ -29,6 +29,7 @@ __all__ = [
     "check_offset_unit",
     "format_unit",
     "convert",
+    "canonical_unit",
 ]
 
 #: The package's single unit registry.
@@ -119,12 +120,66 @@ def si_unit_label(unit: str) -> str:
     return format_unit(u)
 
 
+_SUPERSCRIPTS = str.maketrans("0123456789-.", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻·")
+
+
+def _power(symbol: str, exponent: float) -> str:
+    if exponent == 1:
+        return symbol
+    if float(exponent).is_integer():
+        return symbol + str(int(exponent)).translate(_SUPERSCRIPTS)
+    return f"{symbol}^{exponent:g}"
+
+
 def format_unit(unit: pint.Unit | str) -> str:
-    """Compact, readable unit text, e.g. ``'mm²/s'``; ``''`` for dimensionless."""
+    """Compact, readable unit text with at most one slash; ``''`` for dimensionless.
+
+    Factors above the line first, then ``/`` and the factors below it, in parentheses when
+    there are several (``mm²/(s·K)``, never ``mm²/K/s``).
+
+    Examples
+    --------
+    >>> format_unit("mm^2/s"), format_unit("mPa*s"), format_unit("mm^2/s/K"), format_unit("1/K")
+    ('mm²/s', 'mPa·s', 'mm²/(s·K)', '1/K')
+    """
     u = parse_unit(unit) if isinstance(unit, str) else unit
     if u == ureg.dimensionless:
         return ""
-    return f"{u:~P}"
+    items = list(u._units.items())
+    up = [_power(_symbol(n), e) for n, e in items if e > 0]
+    down = [_power(_symbol(n), -e) for n, e in items if e < 0]
+    text = "·".join(up) or "1"
+    if down:
+        below = "·".join(down)
+        text += "/" + (f"({below})" if len(down) > 1 else below)
+    return text
+
+
+@functools.lru_cache(maxsize=256)
+def _symbol(name: str) -> str:
+    return str(ureg.get_symbol(name))
+
+
+@functools.lru_cache(maxsize=1024)
+def canonical_unit(unit: str, field: str = "unit") -> str:
+    """A spelling-free key of a unit: its dimension, SI scale (12 digits) and offset.
+
+    Two unit texts that denote the same unit (``"mm^2/s"``, ``"mm**2 / s"``, ``"mm²/s"``,
+    ``"cSt"``) get the same key, so a fingerprint does not depend on how a unit was typed.
+
+    Examples
+    --------
+    >>> canonical_unit("mm^2/s") == canonical_unit("mm² / s") == canonical_unit("cSt")
+    True
+    >>> canonical_unit("degC")
+    '[temperature]*1+273.15'
+    """
+    dims = parse_unit(unit, field).dimensionality
+    dim = "*".join(
+        name if exp == 1 else f"{name}^{exp:g}" for name, exp in sorted(dict(dims).items())
+    )
+    scale, offset = si_conversion(unit, field)
+    return f"{dim or '1'}*{scale:.12g}" + (f"+{offset:.12g}" if offset else "")
 
 
 def same_dimension(a: str, b: str) -> bool:
@@ -153,7 +208,9 @@ def sensitivity_unit(output_unit: str, input_unit: str) -> str:
     >>> sensitivity_unit("mPa*s", "mm")
     'mPa·s/mm'
     >>> sensitivity_unit("mm", "1/K")
-    'K·mm'
+    'mm·K'
+    >>> sensitivity_unit("mm^2/s", "degC")
+    'mm²/(s·K)'
     >>> sensitivity_unit("mm", "mm")
     '1'
     """
@@ -161,6 +218,8 @@ def sensitivity_unit(output_unit: str, input_unit: str) -> str:
     inp = parse_unit(input_unit)
     if si_conversion(input_unit)[1] != 0.0:  # offset unit: per degree of difference
         inp = ureg.Unit(f"delta_{inp}")
+        if inp == ureg.Unit("delta_degC"):
+            inp = ureg.kelvin  # a Celsius degree of difference is a kelvin
     ratio = out / inp
     if ratio == ureg.dimensionless:
         return "1"

@@ -53,8 +53,8 @@ def run(args: argparse.Namespace) -> int:
     """Decide and print the verdict (or JSON). Returns 0 whatever the verdict."""
     from viscometry.conformity import DECISION_CAUTION, decide
     from viscometry.errors import InputError
-    from viscometry.io.json_out import dumps
-    from viscometry.units import format_unit
+    from viscometry.io.json_out import dumps, schema
+    from viscometry.text import decision_statement, unit_label
 
     unit = args.unit
     dof = args.dof
@@ -65,15 +65,15 @@ def run(args: argparse.Namespace) -> int:
             for v in (args.value, args.standard_uncertainty, args.expanded_uncertainty)
         ):
             raise InputError("give either --budget or --value with an uncertainty, not both")
-        from viscometry.io.budget_file import load_budget
+        from viscometry.commands._common import evaluate_file
 
-        result = load_budget(args.budget).evaluate()
+        _bf, result = evaluate_file(args.budget)
         value, u = result.value, result.standard_uncertainty
         k = result.coverage_factor if k is None else k
         if dof is None:
             dof = result.effective_dof
         if unit is None:
-            unit = format_unit(result.unit) if result.unit else ""
+            unit = result.unit
     else:
         if args.value is None:
             raise InputError("--value is required (or --budget FILE)")
@@ -91,13 +91,17 @@ def run(args: argparse.Namespace) -> int:
             u = args.expanded_uncertainty / k
     d = decide(value, u, args.lower, args.upper, coverage_factor=k,
                dof=math.inf if dof is None else dof, rule=args.rule,
-               guard_factor=args.guard_factor, unit=unit or "")  # fmt: skip
+               guard_factor=args.guard_factor)  # fmt: skip
+    unit = unit or ""
     if args.json:
-        out = {key: getattr(d, key) for key in d.__dataclass_fields__}
-        out["caution"] = DECISION_CAUTION
+        out = {
+            "schema": schema("decide"),
+            **{key: getattr(d, key) for key in d.__dataclass_fields__},
+        }
+        out.update(unit=unit, statement=decision_statement(d, unit), caution=DECISION_CAUTION)
         print(dumps(out))
         return 0
-    lbl = f" {unit}" if unit else ""
+    lbl = f" {unit_label(unit)}" if unit else ""
     lo = "—" if d.lower is None else f"{d.lower:g}"
     up = "—" if d.upper is None else f"{d.upper:g}"
     alo = "—" if d.acceptance_lower is None else f"{d.acceptance_lower:.6g}"
@@ -106,6 +110,6 @@ def run(args: argparse.Namespace) -> int:
           f"k = {d.coverage_factor:.3g}, U = {d.expanded_uncertainty:.3g}{lbl}")  # fmt: skip
     print(f"tolerance interval: [{lo}, {up}]{lbl}; acceptance interval: [{alo}, {aup}]{lbl}")
     print(f"verdict: {d.verdict.upper()}")
-    print(d.statement)
+    print(decision_statement(d, unit))
     print(f"note: {DECISION_CAUTION}")
     return 0

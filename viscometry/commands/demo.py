@@ -18,10 +18,10 @@ CAUTION = (
 
 
 def default_folder() -> Path:
-    """The repository's ``examples/`` folder, next to the installed package's source tree."""
-    import viscometry
+    """The example budgets shipped with the package (the repository's ``examples/``)."""
+    from viscometry.workspace import bundled
 
-    return Path(viscometry.__file__).resolve().parents[1] / "examples"
+    return bundled("examples")
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -32,7 +32,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         nargs="?",
         default=None,
         help="folder of budget files, searched recursively for *.toml; TOML files that are "
-        "not budget files are skipped (default: the repository's examples/ folder)",
+        "not budget files are skipped (default: the example budgets shipped with the package)",
     )
 
 
@@ -42,14 +42,14 @@ def run(args: argparse.Namespace) -> int:
     Returns 0, or 2 when a file could not be evaluated (the others are still shown).
     """
     from viscometry.errors import InputError, ViscometryError
-    from viscometry.io.budget_file import is_budget_file, load_budget
+    from viscometry.io.reader import is_budget_file, load_budget
+    from viscometry.text import budget_text, one_line, statement
 
     folder = Path(args.folder) if args.folder else default_folder()
     if not folder.is_dir():
-        where = "the given folder" if args.folder else "the repository's examples folder"
         raise InputError(
-            f"{where} {folder} does not exist; this installation has no demo budgets — "
-            f"give a folder of budget files: viscometry demo FOLDER"
+            f"the given folder {folder} does not exist; give a folder of budget files: "
+            "viscometry demo FOLDER"
         )
     candidates = sorted(folder.rglob("*.toml"))
     files = [f for f in candidates if is_budget_file(f)]
@@ -65,15 +65,15 @@ def run(args: argparse.Namespace) -> int:
         print(f"=== {label} " + "=" * max(3, 76 - len(label)))
         try:
             bf = load_budget(path)
-            result = bf.evaluate()
+            result = bf.budget.evaluate()
         except ViscometryError as exc:
             failed += 1
-            print(f"error: {' '.join(str(exc).split())}")
+            print(f"error: {one_line(str(exc))}")
             summary.append(f"{label}: error")
             continue
-        print(result.to_text())
+        print(budget_text(result))
         print(f"fingerprint: {bf.fingerprint}")
-        summary.append(f"{label}: {result.statement()}")
+        summary.append(f"{label}: {statement(result)}")
     print()
     print("=== summary " + "=" * 68)
     for line in summary:

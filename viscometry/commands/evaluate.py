@@ -17,7 +17,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "--json",
         action="store_true",
         help="print one JSON object (value, uncertainties, inputs, warnings, fingerprint, "
-        "version) instead of the table",
+        "version; keys in docs/json.md) instead of the table",
     )
     parser.add_argument(
         "--higher-order",
@@ -29,23 +29,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Evaluate the file; print the table or JSON on standard output. Returns 0."""
-    from viscometry import __version__
-    from viscometry.errors import BudgetFileError, ViscometryError
-    from viscometry.io.budget_file import load_budget
-    from viscometry.io.json_out import dumps, result_to_dict
+    from viscometry.commands._common import evaluate_file, print_json, provenance_lines
+    from viscometry.io.json_out import result_to_dict
+    from viscometry.text import budget_text
 
-    bf = load_budget(args.file)
-    try:
-        result = bf.evaluate(higher_order=args.higher_order)
-    except BudgetFileError:
-        raise
-    except ViscometryError as exc:
-        raise BudgetFileError(f"{bf.source}: {exc}") from exc
+    bf, result = evaluate_file(args.file, higher_order=args.higher_order)
     if args.json:
-        print(dumps(result_to_dict(result, fingerprint=bf.fingerprint)))
+        print_json(result_to_dict(result), source=bf.source)
     else:
-        print(result.to_text())
-        print(f"source: {bf.source}")
-        print(f"fingerprint: {bf.fingerprint}")
-        print(f"version: viscometry {__version__}")
+        print(budget_text(result))
+        print("\n".join(provenance_lines(bf)))
     return 0

@@ -7,7 +7,6 @@ NAME one model is shown in full (also its validity and the optional check contex
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import textwrap
 from typing import Any
@@ -70,11 +69,15 @@ def render_text(method: Method, full: bool = False) -> str:
 
 
 def _dumps(obj: Any) -> str:
-    try:
-        from viscometry.io.json_out import dumps
-    except ImportError:  # the budget-file layer is optional here
-        return json.dumps(obj, indent=2, ensure_ascii=False)
+    from viscometry.io.json_out import dumps
+
     return dumps(obj)
+
+
+def _with_schema(obj: dict[str, Any]) -> dict[str, Any]:
+    from viscometry.io.json_out import schema
+
+    return {"schema": schema("methods"), **obj}
 
 
 def run(args: argparse.Namespace) -> int:
@@ -83,11 +86,11 @@ def run(args: argparse.Namespace) -> int:
     as_json = getattr(args, "json", False)
     if name:
         method = get_method(name)
-        out = _dumps(method.describe()) if as_json else render_text(method, full=True)
+        out = _dumps(_with_schema(method.describe())) if as_json else render_text(method, full=True)
     else:
         methods = list_methods()
         if as_json:
-            out = _dumps([m.describe() for m in methods])
+            out = _dumps(_with_schema({"methods": [m.describe() for m in methods]}))
         else:
             out = "\n\n".join(render_text(m) for m in methods)
             out += "\n\nUse `viscometry methods NAME` for a model's validity and check options."

@@ -23,7 +23,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         required=True,
         help="report file to write: .html (self-contained, with chart), .md, .tex (tabular "
         "fragment), .csv (budget table) or .json (as 'viscometry evaluate --json'); an "
-        "existing file is replaced only after the report is complete",
+        "existing file is replaced only after the report is complete, never the budget file",
     )
     parser.add_argument(
         "--higher-order",
@@ -32,31 +32,28 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "uncorrelated inputs only)",
     )
     parser.add_argument(
-        "--no-figures",
-        action="store_true",
-        help="leave the Pareto chart out of an HTML report",
+        "--no-figures", action="store_true", help="leave the Pareto chart out of an HTML report"
     )
 
 
 def run(args: argparse.Namespace) -> int:
     """Load and evaluate the budget file, then write the report. Returns 0.
 
-    Nothing is written when the extension is unknown or loading or evaluation fails.
+    Nothing is written when the extension is unknown, the output is the budget file itself,
+    or loading or evaluation fails.
     """
-    from viscometry.errors import BudgetFileError, ViscometryError
-    from viscometry.io.budget_file import load_budget
+    from pathlib import Path
+
+    from viscometry.commands._common import evaluate_file
+    from viscometry.errors import InputError
     from viscometry.report import format_for_path, write_report
+    from viscometry.text import one_line
 
     kind = format_for_path(args.output)  # refuse an unknown extension before any work
-    bf = load_budget(args.file)
-    try:
-        result = bf.evaluate(higher_order=args.higher_order)
-    except BudgetFileError:
-        raise
-    except ViscometryError as exc:
-        raise BudgetFileError(f"{bf.source}: {exc}") from exc
-    path = write_report(
-        result, args.output, fingerprint=bf.fingerprint, figures=not args.no_figures
-    )
-    print(f"wrote {path} ({kind} report of {bf.source})")
+    out, src = Path(args.output), Path(args.file)
+    if out.exists() and src.exists() and out.resolve() == src.resolve():
+        raise InputError(f"report path {str(out)!r} is the budget file itself; choose another name")
+    bf, result = evaluate_file(args.file, higher_order=args.higher_order)
+    path = write_report(result, args.output, figures=not args.no_figures)
+    print(f"wrote {one_line(str(path))} ({kind} report of {one_line(bf.source)})")
     return 0

@@ -54,7 +54,8 @@ def run(args: argparse.Namespace) -> int:
     """Compute and print the score (or JSON). Returns 0 whatever the classification."""
     from viscometry import proficiency as pt
     from viscometry.errors import InputError
-    from viscometry.io.json_out import dumps
+    from viscometry.io.json_out import dumps, schema
+    from viscometry.text import score_statement
 
     need = _NEEDS[args.kind]
     missing = [f"--{n.replace('_', '-')}" for n in need if getattr(args, n) is None]
@@ -80,9 +81,10 @@ def run(args: argparse.Namespace) -> int:
     else:
         s = pt.zeta_score(a.value, a.standard_uncertainty, a.assigned, a.assigned_uncertainty)
     if args.json:
-        out = {"kind": s.kind, "value": s.value, "classification": s.classification,
-               "statement": s.statement, "inputs": {n: getattr(a, n) for n in need}}  # fmt: skip
+        out = {"schema": schema("score"), "kind": s.kind, "value": s.value,
+               "classification": s.classification, "statement": score_statement(s),
+               "inputs": {n: getattr(a, n) for n in need}}  # fmt: skip
         print(dumps(out))
         return 0
-    print(s.statement)
+    print(score_statement(s))
     return 0

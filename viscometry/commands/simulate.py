@@ -79,7 +79,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "--json",
         action="store_true",
         help="print one JSON object (trials, seed, value, standard_uncertainty, "
-        "coverage_probability, interval, validation, fingerprint, version)",
+        "coverage_probability, interval, validation, first_order, warnings, fingerprint, "
+        "version; keys in docs/json.md)",
     )
 
 
@@ -89,37 +90,29 @@ def run(args: argparse.Namespace) -> int:
     Returns 0 whether or not the first-order result is validated (the verdict is part of
     the output); errors raise :class:`~viscometry.errors.ViscometryError`.
     """
-    from viscometry import __version__
-    from viscometry.errors import BudgetFileError, ViscometryError
+    from viscometry.commands._common import located, print_json, provenance_lines
+    from viscometry.errors import ViscometryError
     from viscometry.gum.simulation import simulate_budget
-    from viscometry.io.budget_file import load_budget
-    from viscometry.io.json_out import dumps
+    from viscometry.io.reader import load_budget
+    from viscometry.text import simulation_lines
 
     bf = load_budget(args.file)
     try:
         sim = simulate_budget(
-            bf.budget,
-            trials=args.trials,
-            adaptive=args.adaptive,
-            significant_digits=args.digits,
-            seed=args.seed,
-            interval=args.interval,
+            bf.budget, trials=args.trials, adaptive=args.adaptive,
+            significant_digits=args.digits, seed=args.seed, interval=args.interval,
             higher_order_reference=args.higher_order,
-            rounding=bf.rounding,  # type: ignore[arg-type]
-        )
-    except BudgetFileError:
-        raise
+        )  # fmt: skip
     except ViscometryError as exc:
-        raise type(exc)(f"{bf.source}: {exc}") from exc
+        raise located(bf, exc) from exc
     if args.json:
-        out = sim.to_dict()
-        out["fingerprint"] = bf.fingerprint
-        out["version"] = __version__
-        print(dumps(out))
+        from viscometry import __version__
+        from viscometry.io.json_out import schema
+
+        out = {"schema": schema("simulate"), **sim.to_dict()}
+        out.update(warnings=list(sim.warnings), fingerprint=bf.fingerprint, version=__version__)
+        print_json(out, source=bf.source)
     else:
-        for line in sim.summary_lines():
-            print(line)
-        print(f"source: {bf.source}")
-        print(f"fingerprint: {bf.fingerprint}")
-        print(f"version: viscometry {__version__}")
+        print("\n".join(simulation_lines(sim)))
+        print("\n".join(provenance_lines(bf)))
     return 0

@@ -10,6 +10,7 @@ from viscometry.gum.budget import (
     InputContribution,
     LinearisedBudget,
 )
+from viscometry.gum.canonical import canonical_form, fingerprint
 from viscometry.gum.formula import parse_formula
 from viscometry.gum.inputs import (
     DISTRIBUTIONS,
@@ -29,8 +30,10 @@ from viscometry.gum.montecarlo import (
     validate_against,
 )
 from viscometry.gum.propagation import (
+    Propagation,
     combined_variance,
     higher_order_variance,
+    propagate,
     truncate_dof,
     validate_correlation,
     welch_satterthwaite,
@@ -51,7 +54,11 @@ __all__ = [
     "InputQuantity",
     "LinearisedBudget",
     "MeasurementModel",
+    "Propagation",
     "RoundedResult",
+    "canonical_form",
+    "fingerprint",
+    "propagate",
     "combined_variance",
     "compile_model",
     "coverage_factor_for",

@@ -1,36 +1,49 @@
-"""Uncertainty budgets: an immutable description, and its evaluated, immutable result.
+"""The uncertainty budget: one immutable object that decides every number and every warning.
 
-A :class:`Budget` holds the measurement model, the input quantities (in their own units),
-exactly known constants, correlations and the coverage settings. :meth:`Budget.evaluate`
-converts everything to SI floats, applies the law of propagation of uncertainty
-(JCGM 100:2008, 5.1.2 and 5.2.2) with the model's cached symbolic derivatives, and returns a
-:class:`BudgetResult` in the measurand's unit. A what-if is a new budget
-(:meth:`Budget.with_input`), never a mutation.
+A :class:`Budget` holds the measurement model — a formula, or a built-in viscometer model
+(:class:`~viscometry.gum.validity.BuiltInModel`, looked up in :mod:`viscometry.methods` by its
+registry name) — the input quantities in their own units, exactly known constants,
+correlations, the coverage settings, the rounding rule of the result statement and the
+context values of the built-in model's validity checks. Every path asks the budget:
+:meth:`Budget.evaluate` (law of propagation, JCGM 100:2008, 5.1.2 and 5.2.2, through the one
+kernel :func:`~viscometry.gum.propagation.propagate`), :meth:`Budget.linearise` for fast
+what-ifs, the Monte Carlo method, planning and working ranges, files, reports and widgets.
+So the same budget gives the same warnings and the same :attr:`Budget.fingerprint` whichever
+door it came in by. A what-if is a new budget (:meth:`Budget.with_input`), never a mutation.
 """
 
 from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field, replace
-from typing import Any, Literal
+from types import MappingProxyType
+from typing import Any
 
 import numpy as np
 
 from viscometry import units as _units
 from viscometry.errors import CorrelationError, InputError, ModelError
-from viscometry.gum.inputs import InputQuantity, check_name, coverage_factor_for
+from viscometry.gum.inputs import InputQuantity, check_name
+from viscometry.gum.linearised import LinearisedBudget, frozen_array
 from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
 from viscometry.gum.propagation import (
-    combined_variance,
-    coverage_factors,
+    DEFAULT_COVERAGE_PROBABILITY,
+    check_probability,
     higher_order_variance,
-    truncate_dof,
+    propagate,
     validate_correlation,
-    welch_satterthwaite,
 )
-from viscometry.gum.rounding import RoundedResult, Rounding, round_result
+from viscometry.gum.result import BudgetResult, CrossTerm, InputContribution, assemble
+from viscometry.gum.rounding import ROUNDINGS, Rounding
+from viscometry.gum.validity import (
+    BuiltInModel,
+    check_context_problems,
+    estimate_warnings,
+    method_problems,
+    sign_bound_inputs,
+)
 
 __all__ = [
     "Constant",
@@ -43,20 +56,18 @@ __all__ = [
     "DEFAULT_COVERAGE_PROBABILITY",
 ]
 
-#: Default coverage probability: the ≈95 % of a coverage factor 2 for a normal distribution.
-DEFAULT_COVERAGE_PROBABILITY = 0.9545
-
-#: A fixed k whose coverage probability falls short of the stated one by more than this
-#: (0.5 percentage points) is reported with the probability it really gives.
-FIXED_K_SHORTFALL = 0.005
-
-#: Ratio of higher-order to first-order u_c beyond which the higher-order terms are flagged.
-HIGHER_ORDER_NOTICE = 0.01
+#: Units of measurands that cannot be negative (viscosities and viscometer constants), used
+#: for the plausibility warning of a coverage interval that reaches below zero.
+_POSITIVE_MEASURAND_UNITS = ("Pa*s", "m^2/s", "m^2/s^2")
 
 
 @dataclass(frozen=True, slots=True)
 class Constant:
-    """An exactly known quantity used by the model (no uncertainty), in its own unit."""
+    """An exactly known quantity (no uncertainty), in its own unit.
+
+    Used for the constants of a model and for the context values of a built-in model's
+    validity checks (a bore radius, a timed volume, the local gravity ...).
+    """
 
     name: str
     value: float
@@ -70,6 +81,8 @@ class Constant:
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
             raise InputError(f"constant {self.name}.value must be a finite number, got {v!r}")
         object.__setattr__(self, "value", float(v))
+        if not isinstance(self.unit, str):
+            raise InputError(f"constant {self.name}.unit must be a string, got {self.unit!r}")
 
 
 @dataclass(frozen=True, slots=True)
@@ -95,51 +108,14 @@ class Correlation:
         object.__setattr__(self, "coefficient", float(r))
 
 
-@dataclass(frozen=True, slots=True)
-class InputContribution:
-    """One row of an evaluated budget, in the input's and the measurand's units.
-
-    ``sensitivity`` is ∂f/∂xᵢ in ``sensitivity_unit`` (measurand unit per input unit);
-    ``contribution`` = cᵢ·u(xᵢ) in the measurand unit (signed); ``variance_share`` =
-    (cᵢu(xᵢ))²/u_c²; ``relative_sensitivity`` = (xᵢ/y)·∂f/∂xᵢ with xᵢ in SI units (so a
-    temperature counts from absolute zero), NaN when y = 0.
-    """
-
-    name: str
-    value: float
-    unit: str
-    standard_uncertainty: float
-    distribution: str
-    evaluation: str
-    dof: float
-    sensitivity: float
-    sensitivity_unit: str
-    relative_sensitivity: float
-    contribution: float
-    variance_share: float
-    description: str = ""
-    source: str = ""
-
-
-@dataclass(frozen=True, slots=True)
-class CrossTerm:
-    """A correlation term 2 r cᵢ cⱼ u(xᵢ) u(xⱼ) of the combined variance, as its own line."""
-
-    first: str
-    second: str
-    coefficient: float
-    covariance_term: float
-    variance_share: float
-
-
 @dataclass(frozen=True)
 class Budget:
-    """A complete uncertainty budget description (immutable).
+    """A complete uncertainty budget (immutable).
 
     Parameters
     ----------
     model : MeasurementModel
-        The measurement function. Its ``input_names`` are taken in the order of ``inputs``.
+        The measurement function; its inputs are taken in the order of ``inputs``.
     inputs : sequence of InputQuantity
     unit : str
         Unit in which the measurand is reported (pint syntax).
@@ -151,7 +127,23 @@ class Budget:
         A fixed k instead of t_p(ν_eff).
     title : str
     check_units : bool
-        Check that the model's dimensions match ``unit`` (needs the formula's unit info).
+        Check that the model's dimensions match ``unit``.
+    rounding : {"nearest", "up", "ea-4/02"}
+        How the result statement rounds U (:func:`viscometry.gum.round_result`).
+    method : BuiltInModel or None
+        The built-in viscometer model the budget is made of (``model`` is then its
+        equation); None for a formula typed by the user.
+    checks : sequence of Constant, or mapping of key → SI value
+        Context values of the built-in model's validity checks (``method.context_keys``),
+        which are not inputs of the equation; a mapping gives SI values.
+    description : str
+        What the measurand is, in words.
+
+    Raises
+    ------
+    InputError, ModelError, CorrelationError, UnitError
+        Naming the field and the value; errors about one part of the budget carry
+        ``where`` (e.g. ``"inputs.r"``) and start with it.
     """
 
     model: MeasurementModel
@@ -163,20 +155,44 @@ class Budget:
     coverage_factor: float | None = None
     title: str = ""
     check_units: bool = True
+    rounding: Rounding = "nearest"
+    method: BuiltInModel | None = None
+    checks: tuple[Constant, ...] = ()
+    description: str = ""
     _correlation_matrix: np.ndarray | None = field(init=False, repr=False, compare=False)
     _scales: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "inputs", tuple(self.inputs))
-        object.__setattr__(self, "constants", tuple(self.constants))
-        object.__setattr__(self, "correlations", tuple(self.correlations))
+        set_ = object.__setattr__
+        set_(self, "inputs", tuple(self.inputs))
+        set_(self, "constants", tuple(self.constants))
+        set_(self, "correlations", tuple(self.correlations))
+        self._check_names()
+        self._check_settings()
+        if self.method is not None:
+            set_(self, "checks", _context(self.method, self.checks))
+            self._check_method()
+        elif self.checks:
+            raise InputError(
+                "checks: a formula model has no validity checks to run; the check context is "
+                "only used with a built-in viscometer model",
+                where="checks",
+            )
+        self._convert_units()
+        set_(self, "_correlation_matrix", self._build_correlation())
+
+    # ---------------------------------------------------------------- validation
+    def _check_names(self) -> None:
         names = [q.name for q in self.inputs]
         if not names:
-            raise InputError("a budget needs at least one input quantity")
+            raise InputError("a budget needs at least one input quantity", where="inputs")
         if len(set(names)) != len(names):
             dup = sorted({n for n in names if names.count(n) > 1})
-            raise InputError(f"input names used twice: {', '.join(dup)}")
+            raise InputError(f"input names used twice: {', '.join(dup)}", where="inputs")
         cnames = [c.name for c in self.constants]
+        clash = sorted(set(names) & set(cnames))
+        if clash:
+            raise InputError(f"{', '.join(clash)} named both as input and as constant")
         if set(self.model.input_names) != set(names):
             missing = sorted(set(self.model.input_names) - set(names))
             extra = sorted(set(names) - set(self.model.input_names))
@@ -190,32 +206,52 @@ class Budget:
                 f"model constants {sorted(self.model.constant_names)} differ from the "
                 f"budget's constants {sorted(cnames)}"
             )
-        if tuple(self.model.input_names) != tuple(names) or tuple(
-            self.model.constant_names
-        ) != tuple(cnames):
+        if (tuple(self.model.input_names), tuple(self.model.constant_names)) != (
+            tuple(names),
+            tuple(cnames),
+        ):
+            m = self.model
             object.__setattr__(
                 self,
                 "model",
                 MeasurementModel(
-                    self.model.expression,
-                    tuple(names),
-                    tuple(cnames),
-                    self.model.output_name,
-                    self.model.formula,
-                ),  # fmt: skip
+                    m.expression, tuple(names), tuple(cnames), m.output_name, m.formula
+                ),
             )
-        if self.coverage_factor is not None:
-            k = self.coverage_factor
-            if (
-                isinstance(k, bool)
-                or not isinstance(k, (int, float))
-                or not (math.isfinite(k) and k > 0)
-            ):
-                raise InputError(f"coverage_factor must be a positive number, got {k!r}")
+
+    def _check_settings(self) -> None:
+        k = self.coverage_factor
+        if k is not None and (
+            isinstance(k, bool)
+            or not isinstance(k, (int, float))
+            or not (math.isfinite(k) and k > 0)
+        ):
+            raise InputError(f"coverage_factor must be a positive number, got {k!r}")
         p = self.coverage_probability
-        if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0.0 < p < 1.0:
-            raise InputError(f"coverage_probability must lie strictly between 0 and 1, got {p!r}")
-        # Units: conversion factors to SI, once.
+        if isinstance(p, bool) or not isinstance(p, (int, float)):
+            raise InputError(f"coverage_probability must be a number, got {p!r}")
+        check_probability(p)
+        if self.rounding not in ROUNDINGS:
+            raise InputError(
+                f"rounding must be one of {', '.join(ROUNDINGS)}, got {self.rounding!r}"
+            )
+        for label, text in (("title", self.title), ("description", self.description)):
+            if not isinstance(text, str):
+                raise InputError(f"{label} must be a string, got {text!r}")
+
+    def _check_method(self) -> None:
+        assert self.method is not None
+        problems = list(
+            method_problems(
+                self.method, self.model.expression, self.inputs, (c.name for c in self.constants)
+            )
+        )
+        problems += list(check_context_problems(self.method, self.checks))
+        if problems:
+            where, text = problems[0]
+            raise InputError(f"{where}: {text}", where=where)
+
+    def _convert_units(self) -> None:
         for q in self.inputs:
             _units.check_offset_unit(q.unit, f"{q.name}.unit")
         for c in self.constants:
@@ -235,7 +271,30 @@ class Budget:
             _units.check_model_dimensions(
                 expression, unit_map, self.unit, function_placeholders=placeholders
             )
-        object.__setattr__(self, "_correlation_matrix", self._build_correlation())
+
+    def _build_correlation(self) -> np.ndarray | None:
+        if not self.correlations:
+            return None
+        index = {q.name: i for i, q in enumerate(self.inputs)}
+        r = np.eye(len(self.inputs))
+        seen: set[frozenset[str]] = set()
+        for c in self.correlations:
+            for nm in (c.first, c.second):
+                if nm not in index:
+                    raise CorrelationError(
+                        f"correlation names unknown input {nm!r} (inputs: {', '.join(index)})",
+                        where="correlations",
+                    )
+            key = frozenset((c.first, c.second))
+            if key in seen:
+                raise CorrelationError(
+                    f"correlation between {c.first} and {c.second} given twice",
+                    where="correlations",
+                )
+            seen.add(key)
+            i, j = index[c.first], index[c.second]
+            r[i, j] = r[j, i] = c.coefficient
+        return validate_correlation(r, [q.name for q in self.inputs])
 
     # ---------------------------------------------------------------- construction
     @classmethod
@@ -248,11 +307,12 @@ class Budget:
         *,
         constants: Iterable[Constant] = (),
         correlations: Iterable[Correlation] = (),
-        coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
-        coverage_factor: float | None = None,
-        title: str = "",
+        **settings: Any,
     ) -> Budget:
         """Build a budget from a formula string (parsed by the whitelist parser).
+
+        ``settings`` are the other fields: ``coverage_probability``, ``coverage_factor``,
+        ``title``, ``rounding``, ``description``.
 
         Examples
         --------
@@ -272,31 +332,55 @@ class Budget:
             output_name=measurand,
             field="[measurand] model",
         )
-        return cls(
-            model, inputs, unit, constants, tuple(correlations),
-            coverage_probability, coverage_factor, title,
-        )  # fmt: skip
+        return cls(model, inputs, unit, constants, tuple(correlations), **settings)
 
-    def _build_correlation(self) -> np.ndarray | None:
-        if not self.correlations:
-            return None
-        index = {q.name: i for i, q in enumerate(self.inputs)}
-        n = len(self.inputs)
-        r = np.eye(n)
-        seen: set[frozenset[str]] = set()
-        for c in self.correlations:
-            for nm in (c.first, c.second):
-                if nm not in index:
-                    raise CorrelationError(
-                        f"correlation names unknown input {nm!r} (inputs: {', '.join(index)})"
-                    )
-            key = frozenset((c.first, c.second))
-            if key in seen:
-                raise CorrelationError(f"correlation between {c.first} and {c.second} given twice")
-            seen.add(key)
-            i, j = index[c.first], index[c.second]
-            r[i, j] = r[j, i] = c.coefficient
-        return validate_correlation(r, [q.name for q in self.inputs])
+    @classmethod
+    def from_method(
+        cls,
+        method: BuiltInModel,
+        inputs: Iterable[InputQuantity] | Mapping[str, InputQuantity],
+        unit: str | None = None,
+        *,
+        measurand: str | None = None,
+        checks: Iterable[Constant] | Mapping[str, float] = (),
+        **settings: Any,
+    ) -> Budget:
+        """A budget of a built-in viscometer model (see :func:`viscometry.methods.get_method`).
+
+        Parameters
+        ----------
+        method : BuiltInModel
+            E.g. ``get_method("glass_capillary_kinetic")``.
+        inputs : iterable or mapping of InputQuantity
+            One per input of the model (any units of the right kind).
+        unit : str, optional
+            Unit of the measurand; default the model's SI unit.
+        measurand : str, optional
+            Name of the measurand; default the model's.
+        checks : Constants or mapping
+            Context of the model's validity checks (``method.context_keys``); a mapping
+            gives SI values, Constants carry their own units.
+        **settings
+            ``constants``, ``correlations``, ``coverage_probability``, ``coverage_factor``,
+            ``title`` (default the model's title), ``rounding``, ``description``.
+        """
+        qs = tuple(inputs.values()) if isinstance(inputs, Mapping) else tuple(inputs)
+        constants = tuple(settings.pop("constants", ()))
+        problems = list(method_problems(method, method.expression, qs, (c.name for c in constants)))
+        if problems and problems[0][0] in ("inputs", "constants"):
+            where, text = problems[0]
+            raise ModelError(f"{where}: {text}", where=where)
+        model = MeasurementModel(
+            method.expression,
+            tuple(q.name for q in qs),
+            tuple(c.name for c in constants),
+            measurand or method.output_name,
+        )
+        settings.setdefault("title", getattr(method, "title", ""))
+        return cls(
+            model, qs, method.output_unit if unit is None else unit, constants,
+            method=method, checks=checks, **settings,
+        )  # fmt: skip
 
     # ---------------------------------------------------------------- accessors
     @property
@@ -312,6 +396,15 @@ class Budget:
         """The validated correlation matrix (read-only), or None when inputs are uncorrelated."""
         return self._correlation_matrix
 
+    @property
+    def check_context(self) -> Mapping[str, float]:
+        """The check context in SI (key → value in ``method.context_unit(key)``), read-only."""
+        out = {}
+        for c in self.checks:
+            scale, offset = _units.si_conversion(c.unit or "1")
+            out[c.name] = c.value * scale + offset
+        return MappingProxyType(out)
+
     def input(self, name: str) -> InputQuantity:
         """The input quantity called ``name``."""
         for q in self.inputs:
@@ -322,6 +415,69 @@ class Budget:
     @property
     def compiled(self) -> CompiledModel:
         return compile_model(self.model)
+
+    @property
+    def input_conversions(self) -> tuple[tuple[float, float], ...]:
+        """(scale, offset) per input: x_SI = scale·x + offset (the offset only for degC, degF)."""
+        return self._scales[0]
+
+    @property
+    def input_scales(self) -> tuple[float, ...]:
+        """Factor from each input's own unit to SI (its uncertainty's factor too)."""
+        return tuple(s for s, _o in self._scales[0])
+
+    @property
+    def output_scale(self) -> float:
+        """Factor from the measurand's unit to SI."""
+        return self._scales[2][0]
+
+    @property
+    def output_offset(self) -> float:
+        """Offset of the measurand's unit from SI (non-zero for degC only)."""
+        return self._scales[2][1]
+
+    @functools.cached_property
+    def positive_measurand(self) -> bool:
+        """True when the measurand cannot be negative (a built-in viscometer model, or a
+        viscosity or viscometer constant by its unit)."""
+        if self.method is not None:
+            return True
+        return any(_units.same_dimension(self.unit, u) for u in _POSITIVE_MEASURAND_UNITS)
+
+    @functools.cached_property
+    def fingerprint(self) -> str:
+        """``"sha256:..."`` over the canonical form (:mod:`viscometry.gum.canonical`)."""
+        from viscometry.gum.canonical import fingerprint
+
+        return fingerprint(self)
+
+    @functools.cached_property
+    def sign_bound(self) -> tuple[str, ...]:
+        """Inputs that cannot change sign (:func:`viscometry.gum.validity.sign_bound_inputs`)."""
+        return sign_bound_inputs(self)
+
+    @functools.cached_property
+    def estimate_warnings(self) -> tuple[str, ...]:
+        """Warnings that depend on the estimates only: unused inputs or constants and the
+        built-in model's validity checks (:func:`viscometry.gum.validity.estimate_warnings`)."""
+        return estimate_warnings(self)
+
+    def correlated_with_finite_dof(self) -> tuple[str, ...]:
+        """Inputs with finite νᵢ that are correlated with another input (sorted names)."""
+        r = self._correlation_matrix
+        if r is None:
+            return ()
+        n = len(self.inputs)
+        return tuple(
+            sorted(
+                {
+                    self.inputs[i].name
+                    for i in range(n)
+                    for j in range(n)
+                    if i != j and r[i, j] != 0 and math.isfinite(self.inputs[i].dof)
+                }
+            )
+        )
 
     # ---------------------------------------------------------------- what-ifs
     def with_input(self, quantity: InputQuantity) -> Budget:
@@ -335,7 +491,8 @@ class Budget:
         return self.with_input(self.input(name).with_uncertainty(standard_uncertainty))
 
     def with_settings(self, **changes: Any) -> Budget:
-        """A new budget with other settings (coverage_probability, coverage_factor, title...)."""
+        """A new budget with other settings (coverage_probability, coverage_factor, title,
+        rounding, checks, description...)."""
         return replace(self, **changes)
 
     # ---------------------------------------------------------------- SI arrays
@@ -352,9 +509,8 @@ class Budget:
 
     def si_inputs(self) -> tuple[InputQuantity, ...]:
         """The inputs converted to SI units (for the Monte Carlo method)."""
-        in_scales = self._scales[0]
         out = []
-        for q, (s, o) in zip(self.inputs, in_scales, strict=True):
+        for q, (s, o) in zip(self.inputs, self._scales[0], strict=True):
             out.append(
                 replace(
                     q,
@@ -363,14 +519,14 @@ class Budget:
                     half_width=None if q.half_width is None else q.half_width * s,
                     readings=None,
                     unit=_units.si_unit_label(q.unit) if q.unit else "",
+                    form="standard",
+                    stated=(),
                 )
             )
         return tuple(out)
 
     # ---------------------------------------------------------------- evaluation
-    def evaluate(
-        self, *, higher_order: bool = False, rounding: Rounding = "nearest"
-    ) -> BudgetResult:
+    def evaluate(self, *, higher_order: bool = False) -> BudgetResult:
         """Evaluate the budget by the law of propagation of uncertainty.
 
         Parameters
@@ -378,26 +534,61 @@ class Budget:
         higher_order : bool
             Add the second-order terms of JCGM 100:2008 eq. (10) (for uncorrelated, normal
             inputs; with correlated inputs a :class:`ModelError` is raised).
-        rounding : {"nearest", "up", "ea-4/02"}
-            How the statement rounds U (see :func:`viscometry.gum.rounding.round_result`).
+
+        Returns
+        -------
+        BudgetResult
+            With every warning of the budget (validity checks, unused inputs, plausibility).
         """
         x, u, nu, c = self.si_arrays()
+        y, grad = self._value_and_gradient(x, c)
+        extra = self._higher_order_variance(x, u, c, grad) if higher_order else 0.0
+        prop = propagate(
+            grad, u, nu, self._correlation_matrix,
+            coverage_probability=self.coverage_probability,
+            coverage_factor=self.coverage_factor, extra_variance=extra,
+        )  # fmt: skip
+        if not math.isfinite(float(prop.first_order_variance)):
+            raise ModelError(
+                "the combined variance overflows (sensitivity coefficients times standard "
+                f"uncertainties are too large to square: {self._largest(prop.contributions)}); "
+                "express the inputs in units closer to their size"
+            )
+        return assemble(self, x, y, grad, prop, higher_order)
+
+    def _value_and_gradient(self, x: np.ndarray, c: np.ndarray) -> tuple[float, np.ndarray]:
         comp = self.compiled
-        args = (*x, *c)
-        y = float(comp.value(*args))
+        y = float(comp.value(*x, *c))
         if not math.isfinite(y):
             raise ModelError(
                 f"the model gives {y!r} at the input estimates ({self._estimates()}); "
                 "check the estimates and the formula"
             )
-        grad = comp.gradient(*args)
+        grad = comp.gradient(*x, *c)
         bad = [n for n, g in zip(self.input_names, grad, strict=True) if not math.isfinite(g)]
         if bad:
             raise ModelError(
                 f"sensitivity coefficient of {', '.join(bad)} is not finite at the estimates "
                 f"({self._estimates()})"
             )
-        return _assemble(self, x, u, nu, y, grad, higher_order, rounding)
+        return y, grad
+
+    def _higher_order_variance(
+        self, x: np.ndarray, u: np.ndarray, c: np.ndarray, grad: np.ndarray
+    ) -> float:
+        r = self._correlation_matrix
+        if r is not None and np.any(r - np.eye(len(u)) != 0):
+            raise ModelError(
+                "higher-order terms (JCGM 100:2008 eq. 10) are defined for uncorrelated inputs; "
+                "remove the correlations or use the Monte Carlo method"
+            )
+        h, t = self.compiled.higher_order(*x, *c)
+        return higher_order_variance(u, grad, h, t)
+
+    def _largest(self, contributions_si: np.ndarray) -> str:
+        cs = np.where(np.isnan(contributions_si), np.inf, contributions_si)
+        i = int(np.nanargmax(np.abs(cs)))
+        return f"{self.inputs[i].name} gives {float(contributions_si[i]):.3g} in SI units"
 
     def _estimates(self, limit: int = 6) -> str:
         """``a = 1.0 mm, b = 2.0 mm, ...`` for error messages."""
@@ -412,531 +603,38 @@ class Budget:
     def linearise(self) -> LinearisedBudget:
         """The budget linearised at its estimates, for fast what-ifs on uncertainties.
 
-        Sensitivity coefficients depend on the estimates only, so changing standard
-        uncertainties (an upgrade, a slider) needs no new derivative and no model call:
-        :meth:`LinearisedBudget.with_uncertainty` recomputes u_c, ν_eff, k and U in a few
-        array operations. Changing an *estimate* needs a new :meth:`evaluate`.
+        Changing standard uncertainties (an upgrade, a slider) needs no new derivative and no
+        model call: :meth:`LinearisedBudget.with_uncertainty` gets u_c, ν_eff, k and U from
+        the same kernel as :meth:`evaluate`. Changing an *estimate* needs a new budget.
         """
-        x, u, nu, c = self.si_arrays()
-        grad = self.compiled.gradient(*x, *c)
-        in_scales, _c, (out_scale, out_offset) = self._scales
-        scale_in = np.array([s for s, _o in in_scales])
-        sens = grad * scale_in / out_scale
-        own_u = np.array([q.standard_uncertainty for q in self.inputs])
-        y = (float(self.compiled.value(*x, *c)) - out_offset) / out_scale
+        x, _u, _nu, c = self.si_arrays()
+        y, grad = self._value_and_gradient(x, c)
+        scale_in = np.array(self.input_scales)
         return LinearisedBudget(
-            names=self.input_names,
-            value=y,
-            sensitivities=_frozen(sens),
-            uncertainties=_frozen(own_u),
-            dofs=_frozen(nu),
-            correlation=self._correlation_matrix,
-            coverage_probability=self.coverage_probability,
-            fixed_coverage_factor=self.coverage_factor,
+            budget=self,
+            value=(y - self.output_offset) / self.output_scale,
+            sensitivities=frozen_array(grad * scale_in / self.output_scale),
+            uncertainties=frozen_array([q.standard_uncertainty for q in self.inputs]),
         )
 
-    def sweep(self, name: str, values: Sequence[float] | np.ndarray) -> dict[str, np.ndarray]:
-        """Evaluate the budget for many estimates of one input, in one vectorised pass.
 
-        Parameters
-        ----------
-        name : str
-            Input whose estimate varies (its uncertainty stays as given).
-        values : array
-            Estimates of ``name``, in its own unit.
-
-        Returns
-        -------
-        dict of arrays (measurand unit)
-            ``value``, ``standard_uncertainty``, ``effective_dof``, ``coverage_factor``,
-            ``expanded_uncertainty`` and ``contributions`` (N × M, signed cᵢu(xᵢ)).
-        """
-        idx = self.input_names.index(self.input(name).name)
-        v = np.asarray(values, dtype=float)
-        if v.ndim != 1 or v.size == 0:
-            raise InputError(f"sweep values for {name!r} must be a non-empty 1-D array")
-        x, u, nu, c = self.si_arrays()
-        s, o = self._scales[0][idx]
-        cols = [np.full_like(v, xi) for xi in x]
-        cols[idx] = v * s + o
-        comp = self.compiled
-        args = (*cols, *c)
-        out_scale, out_offset = self._scales[2]
-        yv = (comp.value(*args) - out_offset) / out_scale
-        grad = comp.gradient(*args) / out_scale
-        contributions = grad * u[:, None]
-        var = combined_variance(grad, u[:, None], self._correlation_matrix)
-        uc = np.sqrt(var)
-        nu_eff = np.asarray(welch_satterthwaite(contributions, nu, uc), dtype=float)
-        if self.coverage_factor is not None:
-            k = np.full_like(v, float(self.coverage_factor))
-        else:
-            k = coverage_factors(self.coverage_probability, np.atleast_1d(nu_eff))
-        return {
-            "value": np.asarray(yv, dtype=float),
-            "standard_uncertainty": uc,
-            "effective_dof": np.atleast_1d(nu_eff),
-            "coverage_factor": k,
-            "expanded_uncertainty": k * uc,
-            "contributions": contributions,
-        }
-
-
-def _largest(budget: Budget, contributions_si: np.ndarray) -> str:
-    i = int(np.nanargmax(np.abs(np.where(np.isnan(contributions_si), np.inf, contributions_si))))
-    return f"{budget.inputs[i].name} gives {float(contributions_si[i]):.3g} in SI units"
-
-
-def coverage_probability_of(coverage_factor: float, dof: float) -> float:
-    """Two-sided coverage probability of ±k for a t distribution with ν (normal if ν = ∞).
-
-    Examples
-    --------
-    >>> round(coverage_probability_of(2.0, math.inf), 4), round(coverage_probability_of(2.0, 2), 3)
-    (0.9545, 0.816)
-    """
-    from scipy import stats
-
-    if math.isinf(dof):
-        return float(2.0 * stats.norm.cdf(coverage_factor) - 1.0)
-    return float(2.0 * stats.t.cdf(coverage_factor, dof) - 1.0)
-
-
-def _frozen(a: np.ndarray) -> np.ndarray:
-    a = np.array(a, dtype=float)
-    a.setflags(write=False)
-    return a
-
-
-@dataclass(frozen=True)
-class LinearisedBudget:
-    """A first-order budget linearised at fixed estimates (measurand unit; inputs' own units).
-
-    Cheap to copy with new standard uncertainties; the derived quantities are computed on
-    first access. Built by :meth:`Budget.linearise`.
-
-    Examples
-    --------
-    >>> from viscometry.gum import InputQuantity
-    >>> b = Budget.from_formula("y", "a + 2*b", [InputQuantity.normal("a", 1.0, 0.3),
-    ...                                          InputQuantity.normal("b", 1.0, 0.2)])
-    >>> lin = b.linearise()
-    >>> round(lin.standard_uncertainty, 12), round(lin.with_uncertainty("b", 0.0).standard_uncertainty, 12)
-    (0.5, 0.3)
-    """
-
-    names: tuple[str, ...]
-    value: float
-    sensitivities: np.ndarray
-    uncertainties: np.ndarray
-    dofs: np.ndarray
-    correlation: np.ndarray | None
-    coverage_probability: float
-    fixed_coverage_factor: float | None
-
-    def with_uncertainty(self, name: str, standard_uncertainty: float) -> LinearisedBudget:
-        """A copy where input ``name`` has another standard uncertainty (its own unit)."""
-        return self.with_uncertainties({name: standard_uncertainty})
-
-    def with_uncertainties(self, changes: dict[str, float]) -> LinearisedBudget:
-        """A copy with several standard uncertainties changed."""
-        u = self.uncertainties.copy()
-        for name, value in changes.items():
-            try:
-                i = self.names.index(name)
-            except ValueError:
+def _context(
+    method: BuiltInModel, checks: Iterable[Constant] | Mapping[str, float]
+) -> tuple[Constant, ...]:
+    """Check-context values as Constants (a mapping gives SI values in the context unit)."""
+    if isinstance(checks, Mapping):
+        out = []
+        for key, value in checks.items():
+            if key not in method.context_keys:
+                accepted = ", ".join(method.context_keys) or "none"
                 raise InputError(
-                    f"no input named {name!r} (inputs: {', '.join(self.names)})"
-                ) from None
-            if not (math.isfinite(value) and value >= 0):
-                raise InputError(f"{name}.standard_uncertainty must be non-negative, got {value!r}")
-            u[i] = value
-        u.setflags(write=False)
-        # A shallow copy without the cached derived values (faster than dataclasses.replace,
-        # which matters for sliders and exhaustive upgrade searches).
-        new = object.__new__(LinearisedBudget)
-        fields = {k: v for k, v in self.__dict__.items() if k in _LINEAR_FIELDS}
-        fields["uncertainties"] = u
-        new.__dict__.update(fields)
-        return new
-
-    @functools.cached_property
-    def contributions(self) -> np.ndarray:
-        """Signed cᵢu(xᵢ) in the measurand unit."""
-        return self.sensitivities * self.uncertainties
-
-    @functools.cached_property
-    def standard_uncertainty(self) -> float:
-        cu = self.contributions
-        var = float(cu @ cu) if self.correlation is None else float(cu @ self.correlation @ cu)
-        return math.sqrt(max(var, 0.0))
-
-    @functools.cached_property
-    def effective_dof(self) -> float:
-        uc = self.standard_uncertainty
-        finite = np.isfinite(self.dofs)
-        if uc == 0 or not finite.any():
-            return math.inf
-        cu = self.contributions[finite]
-        denom = float(np.sum(cu**4 / self.dofs[finite]))
-        return uc**4 / denom if denom > 0 else math.inf
-
-    @functools.cached_property
-    def coverage_factor(self) -> float:
-        if self.fixed_coverage_factor is not None:
-            return float(self.fixed_coverage_factor)
-        return coverage_factor_for(self.coverage_probability, truncate_dof(self.effective_dof))
-
-    @property
-    def expanded_uncertainty(self) -> float:
-        return self.coverage_factor * self.standard_uncertainty
-
-    @property
-    def variance_shares(self) -> np.ndarray:
-        """(cᵢu(xᵢ))²/u_c² per input (correlation cross-terms not included)."""
-        v = self.standard_uncertainty**2
-        return self.contributions**2 / v if v > 0 else np.zeros_like(self.contributions)
-
-
-_LINEAR_FIELDS = frozenset(
-    (
-        "names", "value", "sensitivities", "uncertainties", "dofs", "correlation",
-        "coverage_probability", "fixed_coverage_factor",
-    )
-)  # fmt: skip
-
-
-def _assemble(
-    budget: Budget,
-    x: np.ndarray,
-    u: np.ndarray,
-    nu: np.ndarray,
-    y_si: float,
-    grad_si: np.ndarray,
-    higher_order: bool,
-    rounding: Rounding,
-) -> BudgetResult:
-    in_scales, _c, (out_scale, out_offset) = budget._scales
-    warnings: list[str] = []
-    r = budget._correlation_matrix
-    with np.errstate(over="ignore", invalid="ignore"):
-        contrib_si = grad_si * u
-        var = float(combined_variance(grad_si, u, r))
-    if not math.isfinite(var):
-        raise ModelError(
-            "the combined variance overflows (sensitivity coefficients times standard "
-            f"uncertainties are too large to square: {_largest(budget, contrib_si)}); "
-            "express the inputs in units closer to their size"
-        )
-    method: Literal["first-order", "higher-order"] = "first-order"
-    first_order_uc = math.sqrt(max(var, 0.0))
-    if higher_order:
-        if r is not None and np.any(r - np.eye(len(u)) != 0):
-            raise ModelError(
-                "higher-order terms (JCGM 100:2008 eq. 10) are defined for uncorrelated inputs; "
-                "remove the correlations or use the Monte Carlo method"
-            )
-        h, t = budget.compiled.higher_order(*x, *budget.si_arrays()[3])
-        extra = higher_order_variance(u, grad_si, h, t)
-        var = var + extra
-        method = "higher-order"
-    uc_si = math.sqrt(max(var, 0.0))
-    if (
-        higher_order
-        and first_order_uc > 0
-        and abs(uc_si / first_order_uc - 1) > HIGHER_ORDER_NOTICE
-    ):
-        warnings.append(
-            f"higher-order terms change u_c by {100 * (uc_si / first_order_uc - 1):+.1f} % "
-            f"(first-order u_c would be {first_order_uc / out_scale:.3g} {budget.unit}); "
-            f"consider validating with the Monte Carlo method (JCGM 101)"
-        )
-    # Variance shares
-    shares = contrib_si**2 / var if var > 0 else np.zeros_like(contrib_si)
-    cross: list[CrossTerm] = []
-    if r is not None:
-        n = len(u)
-        for i in range(n):
-            for j in range(i + 1, n):
-                if r[i, j] != 0:
-                    term = 2.0 * r[i, j] * contrib_si[i] * contrib_si[j]
-                    cross.append(
-                        CrossTerm(
-                            budget.inputs[i].name,
-                            budget.inputs[j].name,
-                            float(r[i, j]),
-                            term / out_scale**2,
-                            term / var if var > 0 else 0.0,
-                        )  # fmt: skip
-                    )
-    # Degrees of freedom
-    # With the higher-order terms, nu_eff still comes from the first-order contributions:
-    # the second-order terms have no degrees of freedom of their own to put into eq. (G.2b),
-    # and counting them as exact would raise nu_eff (and lower k) unduly.
-    nu_eff = (
-        float(welch_satterthwaite(contrib_si, nu, first_order_uc))
-        if first_order_uc > 0
-        else math.inf
-    )
-    correlated = r is not None and bool(np.any(r - np.eye(len(u)) != 0))
-    if correlated:
-        involved = {
-            budget.inputs[i].name
-            for i in range(len(u))
-            for j in range(len(u))
-            if i != j and r[i, j] != 0 and math.isfinite(nu[i])
-        }
-        if involved:
-            warnings.append(
-                "Welch-Satterthwaite assumes independent inputs; with correlated inputs of finite "
-                f"degrees of freedom ({', '.join(sorted(involved))}) ν_eff is computed from the "
-                "individual contributions and the full u_c, an approximation (JCGM 100:2008 G.4.1)"
-            )
-    nu_used = truncate_dof(nu_eff)
-    if budget.coverage_factor is not None:
-        k = float(budget.coverage_factor)
-        p = budget.coverage_probability
-        k_source = "fixed"
-        delivered = coverage_probability_of(k, nu_used)
-        if delivered < p - FIXED_K_SHORTFALL:
-            warnings.append(
-                f"with ν_eff = {nu_used:g} the fixed coverage factor k = {k:.2f} gives a "
-                f"coverage probability of about {100 * delivered:.1f} %, not "
-                f"{100 * p:.2f} % (JCGM 100:2008, G.3 and G.6.4); the statement reports the "
-                f"{100 * delivered:.1f} %. Give a coverage probability instead of a fixed k "
-                f"to get k = t_p(ν_eff)"
-            )
-            p = delivered
-    else:
-        p = budget.coverage_probability
-        k = coverage_factor_for(p, nu_used)
-        k_source = "t" if math.isfinite(nu_used) else "normal"
-    if uc_si == 0:
-        warnings.append("combined standard uncertainty is zero: every input is exactly known")
-    y = (y_si - out_offset) / out_scale
-    uc = uc_si / out_scale
-    if not (math.isfinite(y) and math.isfinite(uc) and math.isfinite(k * uc)):
-        raise ModelError(
-            f"the result y = {y_si!r} (SI), u_c = {uc_si!r} (SI) cannot be expressed in the "
-            f"measurand unit {budget.unit!r} (overflow); choose a unit closer to its size"
-        )
-    rows = []
-    for q, (s, _o), g, cu, sh, xi in zip(
-        budget.inputs, in_scales, grad_si, contrib_si, shares, x, strict=True
-    ):
-        sens = g * s / out_scale
-        rel = float(g * xi / y_si) if y_si != 0 else math.nan
-        rows.append(
-            InputContribution(
-                name=q.name,
-                value=q.value,
-                unit=q.unit,
-                standard_uncertainty=q.standard_uncertainty,
-                distribution=q.distribution,
-                evaluation=q.evaluation,
-                dof=q.dof,
-                sensitivity=float(sens),
-                sensitivity_unit=_units.sensitivity_unit(budget.unit, q.unit),
-                relative_sensitivity=rel,
-                contribution=float(cu / out_scale),
-                variance_share=float(sh),
-                description=q.description,
-                source=q.source,
-            )
-        )
-    if y_si == 0:
-        warnings.append(
-            "the estimate is zero: relative uncertainty and relative sensitivities are undefined"
-        )
-    return BudgetResult(
-        budget=budget,
-        value=y,
-        standard_uncertainty=uc,
-        effective_dof=nu_eff,
-        effective_dof_used=nu_used,
-        coverage_probability=p,
-        coverage_factor=k,
-        coverage_factor_source=k_source,
-        expanded_uncertainty=k * uc,
-        method=method,
-        rounding=rounding,
-        contributions=tuple(rows),
-        cross_terms=tuple(cross),
-        warnings=tuple(warnings),
-        first_order_standard_uncertainty=first_order_uc / out_scale,
-    )
-
-
-@dataclass(frozen=True)
-class BudgetResult:
-    """An evaluated budget (immutable snapshot), all measurand values in ``budget.unit``.
-
-    Attributes
-    ----------
-    value : float
-        Estimate y of the measurand.
-    standard_uncertainty : float
-        Combined standard uncertainty u_c(y).
-    effective_dof : float
-        ν_eff from Welch-Satterthwaite, before truncation (``inf`` possible).
-    effective_dof_used : float
-        ν_eff truncated per JCGM 100:2008 G.6.4, used for the t quantile.
-    coverage_factor : float
-        k (t_p(ν_eff), the normal quantile, or the user's fixed k).
-    expanded_uncertainty : float
-        U = k u_c.
-    contributions : tuple of InputContribution
-    cross_terms : tuple of CrossTerm
-    warnings : tuple of str
-    """
-
-    budget: Budget
-    value: float
-    standard_uncertainty: float
-    effective_dof: float
-    effective_dof_used: float
-    coverage_probability: float
-    coverage_factor: float
-    coverage_factor_source: str
-    expanded_uncertainty: float
-    method: str
-    rounding: str
-    contributions: tuple[InputContribution, ...]
-    cross_terms: tuple[CrossTerm, ...]
-    warnings: tuple[str, ...]
-    first_order_standard_uncertainty: float
-
-    @property
-    def unit(self) -> str:
-        return self.budget.unit
-
-    @property
-    def measurand(self) -> str:
-        return self.budget.measurand
-
-    @property
-    def relative_expanded_uncertainty(self) -> float:
-        """U/|y|; NaN when y = 0 or when the measurand is in an offset unit such as degC
-        (a relative uncertainty of a Celsius value has no meaning)."""
-        if self.value == 0 or self.budget._scales[2][1] != 0.0:
-            return math.nan
-        return self.expanded_uncertainty / abs(self.value)
-
-    def contribution(self, name: str) -> InputContribution:
-        """The budget row of input ``name``."""
-        for c in self.contributions:
-            if c.name == name:
-                return c
-        raise InputError(f"no input named {name!r} in this budget")
-
-    @property
-    def dominant(self) -> InputContribution:
-        """The input with the largest variance share."""
-        return max(self.contributions, key=lambda c: c.variance_share)
-
-    def rounded(self, digits: int = 2) -> RoundedResult:
-        """Value and U rounded per JCGM 100:2008 7.2.6 with this result's rounding rule."""
-        if self.expanded_uncertainty <= 0:
-            raise InputError("cannot round a result whose expanded uncertainty is zero")
-        return round_result(
-            self.value, self.expanded_uncertainty, digits=digits, rounding=self.rounding
-        )  # type: ignore[arg-type]
-
-    def statement(self, digits: int = 2) -> str:
-        """The result statement, e.g. ``"nu = (41.27 ± 0.15) mm²/s, k = 2.00, p ≈ 95 %"``."""
-        unit = _units.format_unit(self.unit) if self.unit else ""
-        if self.expanded_uncertainty <= 0:
-            return f"{self.measurand} = {self.value:.10g} {unit} (exactly known inputs)".rstrip()
-        r = self.rounded(digits)
-        p = _percent(self.coverage_probability)
-        k = f"{self.coverage_factor:.2f}"
-        text = f"{self.measurand} = ({r.value} ± {r.uncertainty})"
-        text += f" {unit}" if unit else ""
-        text += f", k = {k}, p ≈ {p} %"
-        rel = self.relative_expanded_uncertainty
-        if math.isfinite(rel):
-            text += f" (relative U = {_rel(rel)})"
-        return text
-
-    def to_ufloat(self) -> Any:
-        """The result as an ``uncertainties`` value (nominal value, u_c), measurand unit."""
-        from uncertainties import ufloat
-
-        return ufloat(self.value, self.standard_uncertainty, tag=self.measurand)
-
-    # ---------------------------------------------------------------- tables
-    def table(self) -> Any:
-        """The budget table as a pandas DataFrame (one row per input, plus correlation rows)."""
-        import pandas as pd
-
-        rows = []
-        for c in self.contributions:
-            rows.append(
-                {
-                    "quantity": c.name,
-                    "estimate": c.value,
-                    "unit": _units.format_unit(c.unit) if c.unit else "",
-                    "standard uncertainty": c.standard_uncertainty,
-                    "distribution": c.distribution,
-                    "type": c.evaluation,
-                    "dof": c.dof,
-                    "sensitivity": c.sensitivity,
-                    "sensitivity unit": c.sensitivity_unit,
-                    "relative sensitivity": c.relative_sensitivity,
-                    "contribution": c.contribution,
-                    "variance share": c.variance_share,
-                }
-            )
-        for t in self.cross_terms:
-            rows.append(
-                {
-                    "quantity": f"r({t.first}, {t.second}) = {t.coefficient:g}",
-                    "estimate": math.nan,
-                    "unit": "",
-                    "standard uncertainty": math.nan,
-                    "distribution": "",
-                    "type": "",
-                    "dof": math.nan,
-                    "sensitivity": math.nan,
-                    "sensitivity unit": "",
-                    "relative sensitivity": math.nan,
-                    "contribution": math.nan,
-                    "variance share": t.variance_share,
-                }
-            )
-        return pd.DataFrame(rows)
-
-    def summary(self) -> dict[str, Any]:
-        """Headline numbers as a plain dict (measurand unit)."""
-        return {
-            "measurand": self.measurand,
-            "unit": self.unit,
-            "value": self.value,
-            "standard_uncertainty": self.standard_uncertainty,
-            "effective_dof": self.effective_dof,
-            "coverage_probability": self.coverage_probability,
-            "coverage_factor": self.coverage_factor,
-            "expanded_uncertainty": self.expanded_uncertainty,
-            "relative_expanded_uncertainty": self.relative_expanded_uncertainty,
-            "method": self.method,
-        }
-
-    def to_text(self) -> str:
-        """A plain-text rendering: the table, the combined result and the statement."""
-        from viscometry.report_text import budget_text
-
-        return budget_text(self)
-
-    def _repr_html_(self) -> str:
-        from viscometry.report_text import budget_html
-
-        return budget_html(self)
-
-
-def _percent(p: float) -> str:
-    s = f"{100 * p:.2f}".rstrip("0").rstrip(".")
-    return s
-
-
-def _rel(rel: float) -> str:
-    return f"{100 * rel:#.2g}".rstrip(".") + " %"
+                    f"checks: has unknown key {key!r}; method {method.name!r} accepts: {accepted}",
+                    where="checks",
+                )
+            out.append(Constant(key, value, method.context_unit(key)))
+        return tuple(out)
+    items = tuple(checks)
+    for c in items:
+        if not isinstance(c, Constant):
+            raise InputError(f"checks must be Constants or a mapping of SI values, got {c!r}")
+    return items

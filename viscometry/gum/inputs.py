@@ -23,14 +23,16 @@ constructor               standard uncertainty                       reference
 
 from __future__ import annotations
 
+import contextvars
 import functools
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
+from types import MappingProxyType
 from typing import Literal
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from viscometry._checks import finite as _finite
 from viscometry._checks import positive as _positive
@@ -39,6 +41,8 @@ from viscometry.errors import InputError
 __all__ = [
     "Distribution",
     "DISTRIBUTIONS",
+    "FORMS",
+    "UncertaintyForm",
     "InputQuantity",
     "dof_from_relative_uncertainty",
     "check_name",
@@ -56,6 +60,20 @@ DISTRIBUTIONS: dict[str, float | None] = {
     "arcsine": math.sqrt(2.0),
     "trapezoidal": None,
 }
+
+#: How an input's uncertainty was stated: the forms a budget file knows.
+UncertaintyForm = Literal["standard", "expanded", "bounds", "readings", "pooled"]
+FORMS: tuple[str, ...] = ("standard", "expanded", "bounds", "readings", "pooled")
+
+#: Names of the numbers an uncertainty statement may hold (the budget-file keys).
+_STATED_KEYS = frozenset(
+    {
+        "standard_uncertainty", "expanded_uncertainty", "coverage_factor",
+        "coverage_probability", "half_width", "lower", "upper", "beta", "distribution",
+        "evaluation", "dof", "relative_uncertainty_of_uncertainty",
+        "pooled_standard_deviation", "pooled_dof",
+    }
+)  # fmt: skip
 
 _MAX_NAME_LENGTH = 64
 
@@ -156,7 +174,15 @@ class InputQuantity:
     beta : float or None
         Ratio of top to base half-width of a trapezoidal distribution (0 ≤ β ≤ 1).
     readings : tuple of float or None
-        The repeated readings a Type A input was evaluated from, kept for the audit trail.
+        The repeated readings a Type A input was evaluated from (forms "readings" and
+        "pooled"), kept for the audit trail.
+    form : {"standard", "expanded", "bounds", "readings", "pooled"}
+        How the uncertainty was stated (set by the constructors below).
+    stated : tuple of (str, value) pairs
+        The numbers as they were stated, named like the budget-file keys (e.g.
+        ``(("expanded_uncertainty", 0.0003), ("coverage_factor", 2.0))``). A budget file is
+        written back in this form, and the fingerprint covers it, so a certificate's U and k
+        stay U and k. Left empty, it is filled from the fields (standard form).
     """
 
     name: str
@@ -171,6 +197,8 @@ class InputQuantity:
     half_width: float | None = None
     beta: float | None = None
     readings: tuple[float, ...] | None = None
+    form: UncertaintyForm = "standard"
+    stated: tuple[tuple[str, float | str], ...] = ()
 
     def __post_init__(self) -> None:
         check_name(self.name, "input name")
@@ -200,6 +228,64 @@ class InputQuantity:
             raise InputError(f"{self.name}: a trapezoidal distribution needs beta in [0, 1]")
         if self.distribution == "student_t" and not math.isfinite(self.dof):
             raise InputError(f"{self.name}: a student_t distribution needs finite dof")
+        if self.form not in FORMS:
+            raise InputError(
+                f"{self.name}.form must be one of {', '.join(FORMS)}, got {self.form!r}"
+            )
+        stated = tuple(self.stated)
+        bad = [k for k, _v in stated if k not in _STATED_KEYS]
+        if bad:
+            raise InputError(f"{self.name}.stated has unknown key(s) {', '.join(map(repr, bad))}")
+        object.__setattr__(self, "stated", stated)
+        if (not stated and self.form == "standard") or not (
+            _TRUSTED.get() or self._statement_holds()
+        ):
+            # No statement given, or a copy whose numbers no longer follow from its statement
+            # (dataclasses.replace of the uncertainty, say): it states its uncertainty directly.
+            object.__setattr__(self, "form", "standard")
+            object.__setattr__(self, "stated", self._standard_statement())
+        if self.form in ("standard", "expanded", "bounds"):
+            object.__setattr__(self, "readings", None)  # readings belong to a Type A form
+
+    def _statement_holds(self) -> bool:
+        """Whether u, ν and the distribution follow from :attr:`stated` (and the readings)."""
+        st = dict(self.stated)
+        if self.form in ("readings", "pooled") and not self.readings:
+            return False
+        if self.form == "standard":
+            rel = st.get("relative_uncertainty_of_uncertainty")
+            dof = dof_from_relative_uncertainty(rel) if rel is not None else st.get("dof", math.inf)
+            return (
+                st.get("standard_uncertainty") == self.standard_uncertainty
+                and st.get("distribution", "normal") == self.distribution
+                and st.get("evaluation", "B") == self.evaluation
+                and st.get("beta") == self.beta
+                and dof == self.dof
+            )
+        try:
+            again = _rebuild(self)
+        except InputError:
+            return False
+        return (again.value, again.standard_uncertainty, again.dof, again.distribution) == (
+            self.value, self.standard_uncertainty, self.dof, self.distribution,
+        )  # fmt: skip
+
+    def _standard_statement(self) -> tuple[tuple[str, float | str], ...]:
+        out: list[tuple[str, float | str]] = [("standard_uncertainty", self.standard_uncertainty)]
+        if self.distribution != "normal":
+            out.append(("distribution", self.distribution))
+        if self.beta is not None:
+            out.append(("beta", float(self.beta)))
+        if math.isfinite(self.dof):
+            out.append(("dof", self.dof))
+        if self.evaluation != "B":
+            out.append(("evaluation", self.evaluation))
+        return tuple(out)
+
+    @property
+    def statement(self) -> Mapping[str, float | str]:
+        """The uncertainty as stated (read-only mapping of :attr:`stated`)."""
+        return MappingProxyType(dict(self.stated))
 
     # ------------------------------------------------------------------ Type A
     @classmethod
@@ -233,7 +319,8 @@ class InputQuantity:
         x = _readings(name, readings)
         n = x.size
         s = float(np.std(x, ddof=1))
-        return cls(
+        return _make(
+            cls,
             name=name,
             value=float(np.mean(x)),
             standard_uncertainty=s / math.sqrt(n),
@@ -244,6 +331,7 @@ class InputQuantity:
             description=description,
             source=source,
             readings=tuple(float(v) for v in x),
+            form="readings",
         )
 
     @classmethod
@@ -273,7 +361,8 @@ class InputQuantity:
         x = _readings(name, readings, minimum=1)
         sp = _positive(pooled_standard_deviation, f"{name}.pooled_standard_deviation")
         nu = _dof(pooled_dof, f"{name}.pooled_dof")
-        return cls(
+        return _make(
+            cls,
             name=name,
             value=float(np.mean(x)),
             standard_uncertainty=sp / math.sqrt(x.size),
@@ -284,6 +373,8 @@ class InputQuantity:
             description=description,
             source=source,
             readings=tuple(float(v) for v in x),
+            form="pooled",
+            stated=(("pooled_standard_deviation", sp), ("pooled_dof", nu)),
         )
 
     # ------------------------------------------------------------------ Type B
@@ -307,17 +398,57 @@ class InputQuantity:
         >>> InputQuantity.normal("V", 2.0, 0.01, "mL").standard_uncertainty
         0.01
         """
-        return cls(
-            name=name,
-            value=value,
-            standard_uncertainty=standard_uncertainty,
-            unit=unit,
-            distribution="normal",
-            dof=_type_b_dof(name, dof, relative_uncertainty_of_uncertainty),
-            evaluation="B",
-            description=description,
-            source=source,
-        )
+        return cls.from_standard(
+            name, value, standard_uncertainty, unit, dof=dof,
+            relative_uncertainty_of_uncertainty=relative_uncertainty_of_uncertainty,
+            description=description, source=source,
+        )  # fmt: skip
+
+    @classmethod
+    def from_standard(
+        cls,
+        name: str,
+        value: float,
+        standard_uncertainty: float,
+        unit: str = "",
+        *,
+        distribution: Distribution = "normal",
+        evaluation: Literal["A", "B"] = "B",
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        beta: float | None = None,
+        description: str = "",
+        source: str = "",
+    ) -> InputQuantity:
+        """An input whose standard uncertainty is stated directly (JCGM 100:2008, 4.3).
+
+        The distribution (for the Monte Carlo method) and the evaluation type are as given;
+        the degrees of freedom come from ``dof`` or from the relative uncertainty of the
+        uncertainty (JCGM 100:2008, G.4.2).
+
+        Examples
+        --------
+        >>> q = InputQuantity.from_standard("E", 0.0, 0.8, "mm^2*s", distribution="rectangular")
+        >>> q.distribution, dict(q.statement)
+        ('rectangular', {'standard_uncertainty': 0.8, 'distribution': 'rectangular'})
+        """
+        nu = _type_b_dof(name, dof, relative_uncertainty_of_uncertainty)
+        stated: list[tuple[str, float | str]] = [
+            ("standard_uncertainty", _finite(standard_uncertainty, f"{name}.standard_uncertainty"))
+        ]
+        if distribution != "normal":
+            stated.append(("distribution", distribution))
+        if beta is not None:
+            stated.append(("beta", _finite(beta, f"{name}.beta")))
+        stated += _dof_statement(dof, relative_uncertainty_of_uncertainty)
+        if evaluation != "B":
+            stated.append(("evaluation", evaluation))
+        return _make(
+            cls,
+            name=name, value=value, standard_uncertainty=standard_uncertainty, unit=unit,
+            distribution=distribution, dof=nu, evaluation=evaluation, beta=beta,
+            description=description, source=source, form="standard", stated=tuple(stated),
+        )  # fmt: skip
 
     @classmethod
     def from_expanded(
@@ -330,6 +461,7 @@ class InputQuantity:
         coverage_factor: float | None = None,
         coverage_probability: float | None = None,
         dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
         description: str = "",
         source: str = "",
     ) -> InputQuantity:
@@ -353,13 +485,18 @@ class InputQuantity:
                 f"{name}: give exactly one of coverage_factor or coverage_probability "
                 f"with expanded_uncertainty"
             )
-        nu = _dof(dof, f"{name}.dof")
+        nu = _type_b_dof(name, dof, relative_uncertainty_of_uncertainty)
+        stated: list[tuple[str, float | str]] = [("expanded_uncertainty", big_u)]
         if coverage_factor is not None:
             k = _positive(coverage_factor, f"{name}.coverage_factor")
+            stated.append(("coverage_factor", k))
         else:
             p = _probability(coverage_probability, f"{name}.coverage_probability")
             k = coverage_factor_for(p, nu)
-        return cls(
+            stated.append(("coverage_probability", p))
+        stated += _dof_statement(dof, relative_uncertainty_of_uncertainty)
+        return _make(
+            cls,
             name=name,
             value=value,
             standard_uncertainty=big_u / k,
@@ -369,6 +506,8 @@ class InputQuantity:
             evaluation="B",
             description=description,
             source=source,
+            form="expanded",
+            stated=tuple(stated),
         )
 
     @classmethod
@@ -389,6 +528,7 @@ class InputQuantity:
     ) -> InputQuantity:
         if half_width is not None and (lower is not None or upper is not None):
             raise InputError(f"{name}: give either half_width or lower/upper bounds, not both")
+        stated: list[tuple[str, float | str]] = [("distribution", kind)]
         if half_width is None:
             if lower is None or upper is None:
                 raise InputError(f"{name}: a {kind} distribution needs half_width or both bounds")
@@ -404,10 +544,12 @@ class InputQuantity:
                     f"a symmetric {kind} distribution is centred on its estimate"
                 )
             value = centre
+            stated += [("lower", lo), ("upper", hi)]
         else:
             a = _positive(half_width, f"{name}.half_width", allow_zero=True)
             if value is None:
                 raise InputError(f"{name}: value is required with half_width")
+            stated.append(("half_width", a))
         if kind == "trapezoidal":
             if beta is None:
                 raise InputError(f"{name}: a trapezoidal distribution needs beta in [0, 1]")
@@ -415,11 +557,13 @@ class InputQuantity:
             if not 0.0 <= b <= 1.0:
                 raise InputError(f"{name}.beta must lie in [0, 1], got {b!r}")
             u = a * math.sqrt((1.0 + b * b) / 6.0)
+            stated.append(("beta", b))
         else:
             divisor = DISTRIBUTIONS[kind]
             assert divisor is not None
             u = a / divisor
-        return cls(
+        return _make(
+            cls,
             name=name,
             value=value,
             standard_uncertainty=u,
@@ -431,6 +575,8 @@ class InputQuantity:
             source=source,
             half_width=a,
             beta=beta if kind == "trapezoidal" else None,
+            form="bounds",
+            stated=tuple(stated) + _dof_statement(dof, relative_uncertainty_of_uncertainty),
         )
 
     @classmethod
@@ -559,13 +705,20 @@ class InputQuantity:
     def with_uncertainty(self, standard_uncertainty: float, **changes: object) -> InputQuantity:
         """A copy with a new standard uncertainty (a what-if), other fields unchanged.
 
-        A bounded distribution keeps its shape: the half-width is rescaled to match.
+        The copy states its uncertainty directly (standard form): the distribution keeps its
+        shape (a bounded one its half-width rescaled), the degrees of freedom and the
+        evaluation type stay, and readings are dropped (they no longer give this u).
         """
         u = _positive(standard_uncertainty, f"{self.name}.standard_uncertainty", allow_zero=True)
         hw = self.half_width
         if hw is not None and self.standard_uncertainty > 0:
             hw = hw * u / self.standard_uncertainty
-        return replace(self, standard_uncertainty=u, half_width=hw, **changes)  # type: ignore[arg-type]
+        fields: dict[str, object] = {
+            "standard_uncertainty": u, "half_width": hw, "readings": None,
+            "form": "standard", "stated": (),
+        }  # fmt: skip
+        fields.update(changes)
+        return replace(self, **fields)  # type: ignore[arg-type]
 
 
 def coverage_factor_for(coverage_probability: float, dof: float = math.inf) -> float:
@@ -597,8 +750,8 @@ def coverage_factor_for(coverage_probability: float, dof: float = math.inf) -> f
 def _coverage_factor(p: float, nu: float) -> float:
     q = 0.5 * (1.0 + p)
     if math.isinf(nu):
-        return float(stats.norm.ppf(q))
-    return float(stats.t.ppf(q, nu))
+        return float(special.ndtri(q))
+    return float(special.stdtrit(nu, q))
 
 
 def _readings(name: str, readings: Sequence[float], minimum: int = 2) -> np.ndarray:
@@ -621,6 +774,53 @@ def _readings(name: str, readings: Sequence[float], minimum: int = 2) -> np.ndar
     if bad.any():
         raise InputError(f"{name}.readings must be finite, got {x[bad][0]!r}")
     return x
+
+
+#: Set while a constructor of this module builds an input: its statement holds by construction.
+_TRUSTED: contextvars.ContextVar[bool] = contextvars.ContextVar("viscometry_trusted", default=False)
+
+
+def _make(cls: type[InputQuantity], **fields: object) -> InputQuantity:
+    token = _TRUSTED.set(True)
+    try:
+        return cls(**fields)  # type: ignore[arg-type]
+    finally:
+        _TRUSTED.reset(token)
+
+
+def _rebuild(q: InputQuantity) -> InputQuantity:
+    """The input its statement describes, built again by the matching constructor."""
+    st = dict(q.stated)
+    if q.form == "readings":
+        return InputQuantity.from_readings(q.name, q.readings or (), q.unit)
+    if q.form == "pooled":
+        return InputQuantity.from_pooled(
+            q.name, q.readings or (), st["pooled_standard_deviation"], st["pooled_dof"], q.unit
+        )
+    dofs = {k: st.get(k) for k in ("dof", "relative_uncertainty_of_uncertainty")}
+    if q.form == "expanded":
+        return InputQuantity.from_expanded(
+            q.name, q.value, st["expanded_uncertainty"], q.unit,
+            coverage_factor=st.get("coverage_factor"),
+            coverage_probability=st.get("coverage_probability"), **dofs,  # type: ignore[arg-type]
+        )  # fmt: skip
+    kind = str(st.get("distribution"))
+    kwargs = {"lower": st.get("lower"), "upper": st.get("upper"), **dofs}
+    if kind == "trapezoidal":
+        kwargs["beta"] = st.get("beta")
+    factory = getattr(InputQuantity, kind, None)
+    if kind not in ("rectangular", "triangular", "arcsine", "trapezoidal") or factory is None:
+        raise InputError(f"{q.name}: bounds need a bounded distribution, got {kind!r}")
+    value = None if "lower" in st else q.value
+    return factory(q.name, value, st.get("half_width"), q.unit, **kwargs)
+
+
+def _dof_statement(dof: float | None, rel: float | None) -> tuple[tuple[str, float | str], ...]:
+    if rel is not None:
+        return (("relative_uncertainty_of_uncertainty", float(rel)),)
+    if dof is not None:
+        return (("dof", _dof(dof)),)
+    return ()
 
 
 def _type_b_dof(name: str, dof: float | None, rel: float | None) -> float:

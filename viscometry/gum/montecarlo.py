@@ -44,6 +44,11 @@ from numpy.typing import ArrayLike
 
 from viscometry.errors import CorrelationError, CorrelationWarning, InputError, ModelError
 from viscometry.gum.inputs import InputQuantity
+from viscometry.gum.propagation import (
+    DEFAULT_COVERAGE_PROBABILITY,
+    PSD_TOLERANCE,
+    validate_correlation,
+)
 
 __all__ = [
     "IntervalKind",
@@ -66,11 +71,6 @@ _BOUNDED_DIVISOR = {
     "triangular": math.sqrt(6.0),
     "arcsine": math.sqrt(2.0),
 }
-
-#: Tolerances used to accept a user's correlation matrix as symmetric with a unit diagonal,
-#: and a singular one as positive semidefinite (relative to its largest eigenvalue).
-_SYMMETRY_TOLERANCE = 1e-12
-_PSD_TOLERANCE = 1e-10
 
 #: Block length for the mean/standard-deviation pass over all model values; fixed so that
 #: the statistics do not depend on the chunking of the draws.
@@ -158,32 +158,6 @@ class ValidationResult:
     validated: bool
     not_applicable: str = ""
 
-    @property
-    def statement(self) -> str:
-        """The outcome in plain words, with δ, d_low and d_high rounded to δ's resolution.
-
-        Examples
-        --------
-        >>> ValidationResult("first-order", 0.0005, 0.00021, 0.00032, True).statement
-        'first-order budget validated at δ = 0.0005 (d_low = 0.0002, d_high = 0.0003)'
-        """
-        if self.not_applicable:
-            return f"{self.reference} budget not validated: {self.not_applicable}"
-        verdict = "validated" if self.validated else "not validated"
-        return (
-            f"{self.reference} budget {verdict} at δ = {_fmt_like(self.tolerance, self.tolerance)} "
-            f"(d_low = {_fmt_like(self.d_low, self.tolerance)}, "
-            f"d_high = {_fmt_like(self.d_high, self.tolerance)})"
-        )
-
-
-def _fmt_like(x: float, tolerance: float) -> str:
-    """Format ``x`` with as many decimals as the leading digit of ``tolerance`` needs."""
-    if not (tolerance > 0 and math.isfinite(tolerance)):
-        return f"{x:.3g}"
-    decimals = max(0, -math.floor(math.log10(tolerance) + 1e-12))
-    return f"{x:.{decimals}f}"
-
 
 # ---------------------------------------------------------------------------- checks
 def _check_int(value: object, field: str, minimum: int = 1) -> int:
@@ -222,46 +196,35 @@ def _check_inputs(inputs: Sequence[InputQuantity]) -> tuple[InputQuantity, ...]:
     return items
 
 
-def _check_correlation(correlation: ArrayLike | None, n: int) -> np.ndarray | None:
+def _check_correlation(
+    correlation: ArrayLike | None, inputs: Sequence[InputQuantity]
+) -> np.ndarray | None:
+    """The correlation matrix, refused or accepted exactly as every other path does
+    (:func:`~viscometry.gum.propagation.validate_correlation`: one tolerance, one message,
+    never repaired)."""
     if correlation is None:
         return None
     try:
         r = np.array(correlation, dtype=float)
     except (TypeError, ValueError):
         raise InputError(f"correlation must be a numeric matrix, got {correlation!r}") from None
+    n = len(inputs)
     if r.shape != (n, n):
         raise InputError(
             f"correlation must be a {n}×{n} matrix for {n} inputs, got shape {r.shape}"
         )
-    if not np.all(np.isfinite(r)):
-        raise CorrelationError(f"correlation must be finite, got {r.tolist()!r}")
-    if np.any(np.abs(np.diag(r) - 1.0) > _SYMMETRY_TOLERANCE):
-        raise CorrelationError(f"correlation diagonal must be 1, got {np.diag(r).tolist()!r}")
-    if np.any(np.abs(r - r.T) > _SYMMETRY_TOLERANCE):
-        i, j = np.unravel_index(np.argmax(np.abs(r - r.T)), r.shape)
-        raise CorrelationError(
-            f"correlation must be symmetric, got r[{i},{j}] = {r[i, j]!r} "
-            f"but r[{j},{i}] = {r[j, i]!r}"
-        )
-    if np.any(np.abs(r) > 1.0 + _SYMMETRY_TOLERANCE):
-        i, j = np.unravel_index(np.argmax(np.abs(r)), r.shape)
-        raise CorrelationError(
-            f"correlation coefficients must lie in [-1, 1], got r[{i},{j}] = {r[i, j]!r}"
-        )
-    r = 0.5 * (r + r.T)
-    np.fill_diagonal(r, 1.0)
-    return np.clip(r, -1.0, 1.0)
+    return validate_correlation(r, [q.name for q in inputs])
 
 
 def _factor(block: np.ndarray, names: Sequence[str]) -> np.ndarray:
-    """A matrix L with L Lᵀ = ``block``: Cholesky, else an eigen-decomposition (PSD)."""
+    """A matrix L with L Lᵀ = ``block`` (a block of an accepted, positive semidefinite
+    correlation matrix): Cholesky, else an eigen-decomposition for a singular one."""
     try:
         return np.linalg.cholesky(block)
     except np.linalg.LinAlgError:
         pass
     eigenvalues, eigenvectors = np.linalg.eigh(block)
-    floor = -_PSD_TOLERANCE * max(1.0, float(eigenvalues.max()))
-    if eigenvalues.min() < floor:
+    if eigenvalues.min() < -PSD_TOLERANCE:  # pragma: no cover - refused by validate_correlation
         raise CorrelationError(
             f"correlation matrix of {', '.join(names)} is not positive semidefinite: "
             f"smallest eigenvalue {eigenvalues.min():.3g}"
@@ -457,7 +420,7 @@ def draw_inputs(
     """
     items = _check_inputs(inputs)
     size = _check_int(size, "size")
-    r = _check_correlation(correlation, len(items))
+    r = _check_correlation(correlation, items)
     return _Sampler(items, r, rng).draw(size)
 
 
@@ -733,7 +696,7 @@ def run_monte_carlo(
     trials: int = 10**6,
     rng: np.random.Generator | None = None,
     seed: int | None = None,
-    coverage_probability: float = 0.95,
+    coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
     chunk_size: int = 100_000,
     histogram_bins: int = 100,
 ) -> MonteCarloResult:
@@ -805,7 +768,7 @@ def run_monte_carlo(
     bins = _check_int(histogram_bins, "histogram_bins")
     p = _check_probability(coverage_probability)
     _coverage_indices(m, p)
-    r = _check_correlation(correlation, len(items))
+    r = _check_correlation(correlation, items)
     generator, seed = _make_rng(rng, seed)
     sampler = _Sampler(items, r, generator)
 
@@ -828,7 +791,7 @@ def run_adaptive(
     *,
     correlation: ArrayLike | None = None,
     significant_digits: int = 2,
-    coverage_probability: float = 0.95,
+    coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
     rng: np.random.Generator | None = None,
     seed: int | None = None,
     max_trials: int = 10**7,
@@ -897,16 +860,46 @@ def run_adaptive(
             f"max_trials must be at least one batch of M = {batch} trials for "
             f"coverage_probability = {p!r}, got {cap!r}"
         )
-    r = _check_correlation(correlation, len(items))
+    r = _check_correlation(correlation, items)
     generator, seed = _make_rng(rng, seed)
     sampler = _Sampler(items, r, generator)
+    values, converged, delta, worst = _batches(func, sampler, batch, cap, p, kind, n_dig)
+    h = len(values)
+    all_values = np.concatenate(values)
+    del values
+    if converged:
+        note = (
+            f"adaptive procedure stabilised after h = {h} batches of M = {batch} trials "
+            f"(δ = {delta:.3g} at n_dig = {n_dig}; largest {worst})"
+        )
+    else:
+        still = (
+            f"{worst} still exceeds δ = {delta:.3g} at n_dig = {n_dig}"
+            if h >= 2
+            else "at least two batches are needed to assess stability"
+        )
+        note = f"not stabilised: max_trials = {cap} reached after h = {h} batches of M = {batch} trials; {still}"
+    return _summarise(all_values, p, kind, 100, trials=h * batch, seed=seed,
+                      converged=converged, batches=h, note=note)  # fmt: skip
 
+
+def _batches(
+    func: Callable[..., ArrayLike],
+    sampler: _Sampler,
+    batch: int,
+    cap: int,
+    p: float,
+    kind: IntervalKind,
+    n_dig: int,
+) -> tuple[list[np.ndarray], bool, float, str]:
+    """Batches of the adaptive procedure until stable (JCGM 101:2008, 7.9.4) or ``cap``.
+
+    Returns the batches of model values, whether they stabilised, δ and the largest 2s_z.
+    """
     values: list[np.ndarray] = []
     stats: list[tuple[float, float, float, float]] = []
     count, mean_all, m2_all = 0, 0.0, 0.0
-    delta = math.nan
-    worst = ""
-    converged = False
+    delta, worst = math.nan, ""
     while (len(values) + 1) * batch <= cap:
         y = np.empty(batch, dtype=np.float64)
         bad, example = _evaluate(func, sampler, y, _ADAPTIVE_CHUNK)
@@ -926,42 +919,11 @@ def run_adaptive(
             continue
         delta = numerical_tolerance(math.sqrt(m2_all / (count - 1)), n_dig)
         s = np.std(np.array(stats), axis=0, ddof=1) / math.sqrt(h)
-        labels = ("y", "u(y)", "y_low", "y_high")
         j = int(np.argmax(s))
-        worst = f"2s({labels[j]}) = {2 * s[j]:.3g}"
+        worst = f"2s({('y', 'u(y)', 'y_low', 'y_high')[j]}) = {2 * s[j]:.3g}"
         if np.all(2.0 * s <= delta):
-            converged = True
-            break
-
-    h = len(values)
-    all_values = np.concatenate(values)
-    del values
-    if converged:
-        note = (
-            f"adaptive procedure stabilised after h = {h} batches of M = {batch} trials "
-            f"(δ = {delta:.3g} at n_dig = {n_dig}; largest {worst})"
-        )
-    else:
-        note = (
-            f"not stabilised: max_trials = {cap} reached after h = {h} batches of M = {batch} "
-            f"trials; "
-            + (
-                f"{worst} still exceeds δ = {delta:.3g} at n_dig = {n_dig}"
-                if h >= 2
-                else "at least two batches are needed to assess stability"
-            )
-        )
-    return _summarise(
-        all_values,
-        p,
-        kind,
-        100,
-        trials=h * batch,
-        seed=seed,
-        converged=converged,
-        batches=h,
-        note=note,
-    )
+            return values, True, delta, worst
+    return values, False, delta, worst
 
 
 # ---------------------------------------------------------------------------- validation
@@ -986,12 +948,13 @@ def validate_against(
     significant_digits : int
         n_dig for the numerical tolerance of the Monte Carlo u(y) [1].
     reference : str
-        Label of the validated result, used in the statement.
+        Label of the validated result (``"first-order"`` or ``"higher-order"``).
 
     Returns
     -------
     ValidationResult
-        δ, d_low, d_high, the verdict and a plain-words ``statement``.
+        δ, d_low, d_high and the verdict (:func:`viscometry.text.validation_statement`
+        puts it in words).
 
     Raises
     ------
@@ -1014,7 +977,7 @@ def validate_against(
     >>> from viscometry.gum.inputs import InputQuantity
     >>> res = run_monte_carlo(lambda a: a, [InputQuantity.normal("a", 0.0, 1.0)], seed=2,
     ...                       trials=200_000)
-    >>> validate_against(0.0, 1.96, res).validated
+    >>> validate_against(0.0, 2.0, res).validated
     True
     """
     try:

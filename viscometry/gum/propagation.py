@@ -13,26 +13,42 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
+from viscometry._checks import finite as _finite
 from viscometry.errors import CorrelationError, InputError
-from viscometry.gum.inputs import coverage_factor_for
 
 __all__ = [
-    "validate_correlation",
+    "DEFAULT_COVERAGE_PROBABILITY",
+    "FIXED_K_SHORTFALL",
+    "PSD_TOLERANCE",
+    "Propagation",
+    "check_probability",
     "combined_variance",
-    "welch_satterthwaite",
+    "coverage_factors",
+    "coverage_probabilities",
+    "higher_order_variance",
+    "propagate",
     "truncate_dof",
     "truncate_dofs",
-    "coverage_factor_for",
-    "coverage_factors",
-    "higher_order_variance",
-    "PSD_TOLERANCE",
+    "validate_correlation",
+    "welch_satterthwaite",
 ]
 
-#: Smallest eigenvalue accepted for a correlation matrix (round-off allowance).
+#: The one default coverage probability of the package (budgets, Monte Carlo runs, files,
+#: widgets): p = 95.45 %, the probability of k = 2 for a normal distribution, so that a
+#: budget with ν_eff = ∞ gets k = 2.00 (JCGM 100:2008, 6.3.3 and G.1.3).
+DEFAULT_COVERAGE_PROBABILITY = 0.9545
+
+#: A fixed k whose coverage probability falls short of the stated one by more than this
+#: (0.5 percentage points) is reported with the probability it really gives.
+FIXED_K_SHORTFALL = 0.005
+
+#: Smallest eigenvalue accepted for a correlation matrix (round-off allowance); the one
+#: tolerance of every path (first-order, higher-order, Monte Carlo).
 PSD_TOLERANCE = 1e-10
 
 
@@ -151,25 +167,43 @@ def truncate_dof(effective_dof: float) -> float:
     return float(max(1, math.floor(effective_dof + 1e-9)))
 
 
-def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray) -> np.ndarray:
-    """Vectorised :func:`coverage_factor_for` over many ν_eff, each truncated per G.6.4.
+def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray | float) -> np.ndarray:
+    """k = t_p(ν) for many ν_eff at once, each truncated per G.6.4 (normal quantile for ∞).
+
+    Uses :func:`scipy.special.stdtrit` and :func:`scipy.special.ndtri` directly: no
+    distribution objects, so a what-if slider or an upgrade search pays microseconds.
 
     Examples
     --------
     >>> [round(float(k), 2) for k in coverage_factors(0.99, np.array([16.7, np.inf]))]
     [2.92, 2.58]
     """
-    coverage_factor_for(coverage_probability)  # validates p
+    q = 0.5 * (1.0 + check_probability(coverage_probability))
     truncated = truncate_dofs(effective_dofs)
-    # one quantile per distinct (integer) dof: sweeps and upgrade searches repeat them a lot
-    distinct, inverse = np.unique(truncated, return_inverse=True)
-    q = 0.5 * (1.0 + coverage_probability)
-    finite = np.isfinite(distinct)
-    ks = np.where(finite, stats.t.ppf(q, np.where(finite, distinct, 1.0)), stats.norm.ppf(q))
-    return ks[inverse].reshape(truncated.shape)
+    finite = np.isfinite(truncated)
+    with np.errstate(invalid="ignore"):
+        t = special.stdtrit(np.where(finite, truncated, 1.0), q)
+    return np.where(finite, t, special.ndtri(q))
 
 
-def truncate_dofs(effective_dofs: np.ndarray) -> np.ndarray:
+def coverage_probabilities(
+    coverage_factor: float, effective_dofs: np.ndarray | float
+) -> np.ndarray:
+    """Two-sided coverage probability of ±k under a t distribution with ν (normal for ∞).
+
+    Examples
+    --------
+    >>> [round(float(p), 3) for p in coverage_probabilities(2.0, np.array([np.inf, 2.0]))]
+    [0.954, 0.816]
+    """
+    nu = np.asarray(effective_dofs, dtype=float)
+    finite = np.isfinite(nu)
+    with np.errstate(invalid="ignore"):
+        t = 2.0 * special.stdtr(np.where(finite, nu, 1.0), coverage_factor) - 1.0
+    return np.where(finite, t, 2.0 * special.ndtr(coverage_factor) - 1.0)
+
+
+def truncate_dofs(effective_dofs: np.ndarray | float) -> np.ndarray:
     """Vectorised :func:`truncate_dof`: each ν_eff to the next lower integer, at least 1.
 
     Examples
@@ -182,6 +216,144 @@ def truncate_dofs(effective_dofs: np.ndarray) -> np.ndarray:
         raise InputError("effective degrees of freedom contain NaN")
     finite = np.isfinite(nu)
     return np.where(finite, np.maximum(1.0, np.floor(np.where(finite, nu, 1.0) + 1e-9)), np.inf)
+
+
+@dataclass(frozen=True)
+class Propagation:
+    """What the law of propagation gives for one budget (0-d arrays) or many (1-d arrays).
+
+    Every array but ``contributions`` has the shape of the cases (``()`` for one budget,
+    ``(M,)`` for M budgets); ``contributions`` has the inputs on its first axis. Units are
+    those of the sensitivities times the uncertainties (the caller's choice, SI inside the
+    engine).
+
+    Attributes
+    ----------
+    contributions : array
+        Signed cᵢ u(xᵢ).
+    first_order_variance : array
+        u_c² of the first-order law (JCGM 100:2008, eq. 13/16).
+    standard_uncertainty : array
+        u_c, including ``extra_variance`` when given (higher-order terms).
+    effective_dof : array
+        ν_eff (eq. G.2b) from the first-order contributions, not truncated.
+    effective_dof_used : array
+        ν_eff truncated per G.6.4.
+    coverage_factor : array
+        t_p(ν_eff), the normal quantile for ν_eff = ∞, or the fixed k.
+    coverage_probability : array
+        The probability the expanded uncertainty stands for: the one asked for, or, for a
+        fixed k whose t probability falls short of it by more than
+        :data:`FIXED_K_SHORTFALL`, the probability that k really gives.
+    fixed_k_short : array of bool
+        True where a fixed k falls short (the statement then reports the lower p).
+    expanded_uncertainty : array
+        U = k u_c.
+    """
+
+    contributions: np.ndarray
+    first_order_variance: np.ndarray
+    standard_uncertainty: np.ndarray
+    effective_dof: np.ndarray
+    effective_dof_used: np.ndarray
+    coverage_factor: np.ndarray
+    coverage_probability: np.ndarray
+    fixed_k_short: np.ndarray
+    expanded_uncertainty: np.ndarray
+
+
+def propagate(
+    sensitivities: np.ndarray,
+    uncertainties: np.ndarray,
+    dofs: np.ndarray,
+    correlation: np.ndarray | None = None,
+    *,
+    coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
+    coverage_factor: float | None = None,
+    extra_variance: np.ndarray | float = 0.0,
+) -> Propagation:
+    """The one propagation kernel: c, u, ν, R and the coverage settings → u_c, ν_eff, k, U.
+
+    Every path that propagates uncertainty — a budget's evaluation, the fast what-if of a
+    slider, upgrade planning, working ranges — calls this function, vectorised over
+    trailing axes instead of written again.
+
+    Parameters
+    ----------
+    sensitivities : (N,) or (N, M) array
+        cᵢ = ∂f/∂xᵢ.
+    uncertainties : (N,) or (N, M) array
+        u(xᵢ), ≥ 0, in units matching ``sensitivities``.
+    dofs : (N,) or (N, M) array
+        νᵢ (``inf`` allowed).
+    correlation : (N, N) array, optional
+        A validated correlation matrix (see :func:`validate_correlation`); None for
+        uncorrelated inputs.
+    coverage_probability : float
+        p of the expanded uncertainty (default :data:`DEFAULT_COVERAGE_PROBABILITY`).
+    coverage_factor : float, optional
+        A fixed k instead of t_p(ν_eff).
+    extra_variance : float or array
+        Variance added to u_c² but not to the Welch-Satterthwaite formula (the higher-order
+        terms of eq. 10, which have no degrees of freedom of their own).
+
+    Returns
+    -------
+    Propagation
+
+    Notes
+    -----
+    u_c² = Σᵢⱼ cᵢcⱼu(xᵢ)u(xⱼ)r(xᵢ,xⱼ) (JCGM 100:2008, eq. 16); ν_eff = u_c⁴/Σ(cᵢu(xᵢ))⁴/νᵢ
+    (eq. G.2b) with the first-order u_c, truncated to an integer ≥ 1 (G.6.4); k = t_p(ν_eff)
+    (G.3) unless a fixed k is given; U = k u_c (6.2.1).
+
+    Examples
+    --------
+    >>> r = propagate(np.array([1.0, 1.0]), np.array([3.0, 4.0]), np.array([np.inf, np.inf]),
+    ...               coverage_factor=2.0)
+    >>> float(r.standard_uncertainty), float(r.expanded_uncertainty)
+    (5.0, 10.0)
+    """
+    c = np.asarray(sensitivities, dtype=float)
+    u = np.asarray(uncertainties, dtype=float)
+    with np.errstate(over="ignore", invalid="ignore"):
+        cu = c * u
+        var = combined_variance(c, u, correlation)
+        first_uc = np.sqrt(np.maximum(var, 0.0))
+        nu_eff = np.asarray(welch_satterthwaite(cu, dofs, first_uc), dtype=float)
+        nu_eff = np.where(first_uc > 0, nu_eff, np.inf)
+        uc = np.sqrt(np.maximum(var + extra_variance, 0.0))
+    used = truncate_dofs(nu_eff)
+    p = check_probability(coverage_probability)
+    if coverage_factor is None:
+        k = coverage_factors(p, used)
+        p_out = np.full(np.shape(used), p)
+        short = np.zeros(np.shape(used), dtype=bool)
+    else:
+        k = np.full(np.shape(used), float(coverage_factor))
+        delivered = coverage_probabilities(float(coverage_factor), used)
+        short = delivered < p - FIXED_K_SHORTFALL
+        p_out = np.where(short, delivered, p)
+    return Propagation(
+        contributions=cu, first_order_variance=np.asarray(var, dtype=float),
+        standard_uncertainty=uc, effective_dof=nu_eff, effective_dof_used=used,
+        coverage_factor=k, coverage_probability=p_out, fixed_k_short=short,
+        expanded_uncertainty=k * uc,
+    )  # fmt: skip
+
+
+def check_probability(value: object, field: str = "coverage_probability") -> float:
+    """A coverage probability strictly between 0 and 1, else :class:`InputError`.
+
+    Examples
+    --------
+    >>> check_probability(0.95)
+    0.95
+    """
+    p = _finite(value, field)
+    if not 0.0 < p < 1.0:
+        raise InputError(f"{field} must lie strictly between 0 and 1, got {p!r}")
+    return p
 
 
 def higher_order_variance(

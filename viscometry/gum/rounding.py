@@ -18,9 +18,17 @@ from typing import Literal
 
 from viscometry.errors import InputError
 
-__all__ = ["Rounding", "RoundedResult", "round_result", "significant_decimal_places"]
+__all__ = [
+    "ROUNDINGS",
+    "Rounding",
+    "RoundedResult",
+    "round_result",
+    "significant_decimal_places",
+]
 
 Rounding = Literal["nearest", "up", "ea-4/02"]
+#: The rounding rules of a result statement (see :func:`round_result`).
+ROUNDINGS: tuple[str, ...] = ("nearest", "up", "ea-4/02")
 
 
 @dataclass(frozen=True, slots=True)
@@ -96,7 +104,7 @@ def round_result(
     """
     if not math.isfinite(value):
         raise InputError(f"value to round must be finite, got {value!r}")
-    if rounding not in ("nearest", "up", "ea-4/02"):
+    if rounding not in ROUNDINGS:
         raise InputError(f"rounding must be 'nearest', 'up' or 'ea-4/02', got {rounding!r}")
     decimals = significant_decimal_places(expanded_uncertainty, digits)
     u_exact = Decimal(repr(float(expanded_uncertainty)))

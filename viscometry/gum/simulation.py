@@ -15,14 +15,14 @@ d_high) is in ``budget.unit``.
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
-from viscometry import units as _units
-from viscometry.errors import InputError
+from viscometry.errors import CorrelationWarning, InputError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.montecarlo import (
     IntervalKind,
@@ -32,9 +32,15 @@ from viscometry.gum.montecarlo import (
     run_monte_carlo,
     validate_against,
 )
-from viscometry.gum.rounding import Rounding
 
-__all__ = ["BudgetSimulation", "ProgressCallback", "simulate_budget", "DEFAULT_TRIALS"]
+__all__ = [
+    "BudgetSimulation",
+    "ProgressCallback",
+    "simulate_budget",
+    "DEFAULT_TRIALS",
+    "recommended_trials",
+    "trial_warnings",
+]
 
 #: Number of trials of a fixed-M run when none is given (JCGM 101:2008, 7.2.1 suggests
 #: M = 10⁶ as a value that can often be expected to deliver a 95 % interval correct to one
@@ -54,7 +60,7 @@ class BudgetSimulation:
     budget : Budget
         The simulated budget.
     first_order : BudgetResult
-        The law-of-propagation result that was validated (``method`` says whether the
+        The law-of-propagation result that was validated (``propagation`` says whether the
         higher-order terms of JCGM 100:2008 eq. (10) were included).
     mc : MonteCarloResult
         The Monte Carlo result, every figure in the measurand's unit ``budget.unit``.
@@ -62,6 +68,9 @@ class BudgetSimulation:
         δ, d_low, d_high and the verdict (JCGM 101:2008, 8.2), in the measurand's unit.
     significant_digits : int
         n_dig used for the numerical tolerance δ (JCGM 101:2008, 7.9.2) [1].
+    notes : tuple of str
+        What the run itself had to say (a correlated input drawn as a normal, JCGM 101:2008,
+        6.4.8); part of :attr:`warnings`.
     """
 
     budget: Budget = field(repr=False)
@@ -69,6 +78,7 @@ class BudgetSimulation:
     mc: MonteCarloResult
     validation: ValidationResult
     significant_digits: int = 2
+    notes: tuple[str, ...] = ()
 
     # ------------------------------------------------------------------ accessors
     @property
@@ -92,65 +102,16 @@ class BudgetSimulation:
         y, big_u = self.first_order.value, self.first_order.expanded_uncertainty
         return (y - big_u, y + big_u)
 
-    # ------------------------------------------------------------------ words
-    def statement(self) -> str:
-        """The validation outcome in plain words, with the unit.
-
-        Returns
-        -------
-        str
-            e.g. ``"first-order budget validated at δ = 0.005 mPa·s (d_low = 0.001 mPa·s,
-            d_high = 0.001 mPa·s)"``; δ, d_low and d_high are shown to the decimal of δ's
-            leading digit.
-
-        References
-        ----------
-        JCGM 101:2008, 8.2.
-        """
-        v = self.validation
-        if v.not_applicable:
-            return v.statement
-        unit = _unit_suffix(self.unit)
-        verdict = "validated" if v.validated else "not validated"
-        dec = _decimals(v.tolerance)
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The budget's warnings (as its first-order result has them) and the run's own."""
         return (
-            f"{v.reference} budget {verdict} at δ = {v.tolerance:.{dec}f}{unit} "
-            f"(d_low = {v.d_low:.{dec}f}{unit}, d_high = {v.d_high:.{dec}f}{unit})"
+            self.first_order.warnings
+            + self.notes
+            + trial_warnings(
+                self.mc.trials, self.mc.coverage_probability, adaptive=self.mc.batches is not None
+            )
         )
-
-    def summary_lines(self) -> tuple[str, ...]:
-        """The Monte Carlo summary and the validation statement, one line each.
-
-        Estimates and interval end-points are shown to the decimal of δ's leading digit,
-        u(y) to ``significant_digits`` significant digits.
-        """
-        mc, fo = self.mc, self.first_order
-        unit = _unit_suffix(self.unit)
-        dec = _decimals(self.validation.tolerance)
-        name = self.measurand
-        p = _percent(mc.coverage_probability)
-        seed = "no seed (generator passed in)" if mc.seed is None else f"seed {mc.seed}"
-        kind = "probabilistically symmetric" if mc.interval_kind == "symmetric" else "shortest"
-        low, high = mc.interval
-        f_low, f_high = self.first_order_interval
-        return (
-            f"Monte Carlo method (JCGM 101:2008): {mc.trials} trials, {seed}",
-            mc.note
-            if mc.batches is not None
-            else "fixed number of trials; numerical stabilisation not assessed "
-            "(adaptive procedure: JCGM 101:2008, 7.9.4)",
-            f"{name} = {mc.value:.{dec}f}{unit}, "
-            f"u({name}) = {_significant(mc.standard_uncertainty, self.significant_digits)}{unit}",
-            f"{p} % coverage interval ({kind}): [{low:.{dec}f}, {high:.{dec}f}]{unit}",
-            f"{fo.method} (JCGM 100:2008): {name} = {fo.value:.{dec}f}{unit}, "
-            f"u({name}) = {_significant(fo.standard_uncertainty, self.significant_digits)}{unit}, "
-            f"k = {fo.coverage_factor:.3f}, interval [{f_low:.{dec}f}, {f_high:.{dec}f}]{unit}",
-            self.statement(),
-        )
-
-    def to_text(self) -> str:
-        """:meth:`summary_lines` joined by newlines."""
-        return "\n".join(self.summary_lines())
 
     def to_dict(self) -> dict[str, Any]:
         """The result as plain data for JSON (measurand unit; no fingerprint or version).
@@ -158,16 +119,20 @@ class BudgetSimulation:
         Returns
         -------
         dict
-            Keys ``trials``, ``seed``, ``value``, ``standard_uncertainty``,
-            ``coverage_probability``, ``interval`` {``low``, ``high``, ``kind``} and
-            ``validation`` {``reference``, ``tolerance``, ``d_low``, ``d_high``,
-            ``validated``}.
+            Keys ``trials``, ``seed``, ``adaptive``, ``converged``, ``value``,
+            ``standard_uncertainty``, ``coverage_probability``, ``interval`` {``low``,
+            ``high``, ``kind``}, ``validation`` {``reference``, ``tolerance``, ``d_low``,
+            ``d_high``, ``validated``, ``not_applicable``} and ``first_order`` {``value``,
+            ``standard_uncertainty``, ``coverage_factor``, ``expanded_uncertainty``,
+            ``propagation``}.
         """
-        mc, v = self.mc, self.validation
+        mc, v, fo = self.mc, self.validation, self.first_order
         low, high = mc.interval
         return {
             "trials": int(mc.trials),
             "seed": mc.seed,
+            "adaptive": mc.batches is not None,
+            "converged": bool(mc.converged),
             "value": float(mc.value),
             "standard_uncertainty": float(mc.standard_uncertainty),
             "coverage_probability": float(mc.coverage_probability),
@@ -178,38 +143,46 @@ class BudgetSimulation:
                 "d_low": float(v.d_low),
                 "d_high": float(v.d_high),
                 "validated": bool(v.validated),
+                "not_applicable": v.not_applicable or None,
+            },
+            "first_order": {
+                "value": float(fo.value),
+                "standard_uncertainty": float(fo.standard_uncertainty),
+                "coverage_factor": float(fo.coverage_factor),
+                "expanded_uncertainty": float(fo.expanded_uncertainty),
+                "propagation": fo.propagation,
             },
         }
 
 
-# ---------------------------------------------------------------------------- formatting
-def _decimals(tolerance: float) -> int:
-    """Decimals that show the leading digit of δ (0 for δ ≥ 1)."""
-    if not (tolerance > 0 and math.isfinite(tolerance)):
-        return 6
-    return max(0, -math.floor(math.log10(tolerance) + 1e-12))
+# ---------------------------------------------------------------------------- trials
+#: Ratio of M to 1/(1 − p) below which a fixed-M run is flagged (JCGM 101:2008, 7.2.2:
+#: M should be large compared with 1/(1 − p), "e.g. at least 10⁴ times greater"; from memory).
+TRIALS_PER_TAIL = 10_000
 
 
-def _significant(x: float, digits: int) -> str:
-    """``x`` rounded to ``digits`` significant digits, in fixed notation where sensible."""
-    if x == 0 or not math.isfinite(x):
-        return f"{x:g}"
-    exponent = math.floor(math.log10(abs(x)))
-    if exponent < -5 or exponent > 9:
-        return f"{x:.{digits - 1}e}"
-    decimals = digits - 1 - exponent
-    if decimals >= 0:
-        return f"{x:.{decimals}f}"
-    return f"{round(x, decimals):.0f}"
+def recommended_trials(coverage_probability: float) -> int:
+    """The M that JCGM 101:2008, 7.2.2 suggests at least: 10⁴/(1 − p), rounded up.
+
+    Examples
+    --------
+    >>> recommended_trials(0.95), recommended_trials(0.9545)
+    (200000, 219781)
+    """
+    return math.ceil(round(TRIALS_PER_TAIL / (1.0 - coverage_probability), 6))
 
 
-def _unit_suffix(unit: str) -> str:
-    text = _units.format_unit(unit) if unit else ""
-    return f" {text}" if text else ""
-
-
-def _percent(p: float) -> str:
-    return f"{100 * p:.2f}".rstrip("0").rstrip(".")
+def trial_warnings(trials: int, coverage_probability: float, *, adaptive: bool) -> tuple[str, ...]:
+    """A warning when a fixed number of trials is small for the coverage probability."""
+    need = recommended_trials(coverage_probability)
+    if adaptive or trials >= need:
+        return ()
+    return (
+        f"M = {trials} Monte Carlo trials is fewer than 10⁴/(1 − p) = {need} for "
+        f"p = {100 * coverage_probability:.2f} % (JCGM 101:2008, 7.2.2): the coverage interval "
+        "and the validation may not be correct to the requested digits; use more trials or "
+        "the adaptive procedure (7.9)",
+    )
 
 
 # ---------------------------------------------------------------------------- simulation
@@ -225,7 +198,6 @@ def simulate_budget(
     higher_order_reference: bool = False,
     progress: ProgressCallback | None = None,
     max_trials: int = 10**7,
-    rounding: Rounding = "nearest",
 ) -> BudgetSimulation:
     """Propagate a budget's input distributions by Monte Carlo and validate its first-order result.
 
@@ -260,8 +232,6 @@ def simulate_budget(
         reported as a model failure) stops the run.
     max_trials : int
         Upper bound on the trials of an adaptive run [1].
-    rounding : {"nearest", "up", "ea-4/02"}
-        Rounding rule of the first-order result's statement.
 
     Returns
     -------
@@ -279,14 +249,11 @@ def simulate_budget(
     CorrelationError
         The budget's correlation matrix cannot be factorised.
 
-    Warns
-    -----
-    CorrelationWarning
-        When a correlated input is not normal (it is drawn as a normal; JCGM 101:2008,
-        6.4.8).
-
     Notes
     -----
+    A correlated input that is not normal is drawn as a normal (JCGM 101:2008, 6.4.8); the
+    result says so in :attr:`BudgetSimulation.warnings` (no Python warning is emitted).
+
     The model values y_r = f(x_r; c) are computed in SI and converted to the measurand's
     unit, (y_r − offset)/scale, so the Monte Carlo estimate, u(y) and the coverage
     intervals are those of the measurand as reported. The first-order result y ± U_p
@@ -315,9 +282,46 @@ def simulate_budget(
     >>> sim = simulate_budget(b, trials=100_000, seed=1, significant_digits=1)
     >>> round(sim.mc.value), sim.validated
     (60000, True)
-    >>> sorted(sim.to_dict())
-    ['coverage_probability', 'interval', 'seed', 'standard_uncertainty', 'trials', 'validation', 'value']
+    >>> sorted(sim.to_dict())  # doctest: +NORMALIZE_WHITESPACE
+    ['adaptive', 'converged', 'coverage_probability', 'first_order', 'interval', 'seed',
+     'standard_uncertainty', 'trials', 'validation', 'value']
     """
+    _check_arguments(budget, trials, adaptive, interval, progress)
+    first_order = budget.evaluate(higher_order=bool(higher_order_reference))
+    total = max_trials if adaptive else (DEFAULT_TRIALS if trials is None else trials)
+    model = _measurand_model(budget, progress, total)
+    inputs = budget.si_inputs()
+    common = {"correlation": budget.correlation_matrix, "rng": rng, "seed": seed,
+              "coverage_probability": budget.coverage_probability}  # fmt: skip
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", CorrelationWarning)
+        if adaptive:
+            mc = run_adaptive(model, inputs, significant_digits=significant_digits,
+                              max_trials=max_trials, interval=interval, **common)  # fmt: skip
+        else:
+            mc = run_monte_carlo(model, inputs, trials=total, **common)
+            if interval == "shortest":
+                mc = replace(mc, interval_kind="shortest", interval=mc.shortest_interval)
+    notes = tuple(dict.fromkeys(str(w.message) for w in caught if w.category is CorrelationWarning))
+    for w in caught:
+        if w.category is not CorrelationWarning:  # not ours to keep: pass it on
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    validation = validate_against(
+        first_order.value, first_order.expanded_uncertainty, mc,
+        significant_digits=significant_digits, reference=first_order.propagation,
+    )  # fmt: skip
+    reason = _validation_not_applicable(inputs, first_order, mc, adaptive)
+    if reason:
+        validation = replace(validation, validated=False, not_applicable=reason)
+    return BudgetSimulation(
+        budget=budget, first_order=first_order, mc=mc, validation=validation,
+        significant_digits=int(significant_digits), notes=notes,
+    )  # fmt: skip
+
+
+def _check_arguments(
+    budget: object, trials: object, adaptive: object, interval: object, progress: object
+) -> None:
     if not isinstance(budget, Budget):
         raise InputError(f"budget must be a Budget, got {budget!r}")
     if interval not in ("symmetric", "shortest"):
@@ -333,12 +337,14 @@ def simulate_budget(
             f"progress must be a callable(trials_done, trials_total), got {progress!r}"
         )
 
-    first_order = budget.evaluate(higher_order=bool(higher_order_reference), rounding=rounding)
-    constants = tuple(float(c) for c in budget.si_arrays()[3])
-    scale, offset = _units.si_conversion(budget.unit, "measurand unit")
-    value = budget.compiled.value
 
-    total = max_trials if adaptive else (DEFAULT_TRIALS if trials is None else trials)
+def _measurand_model(
+    budget: Budget, progress: ProgressCallback | None, total: int
+) -> Callable[..., np.ndarray]:
+    """The budget's compiled model on SI draws, giving the measurand in its own unit."""
+    constants = tuple(float(c) for c in budget.si_arrays()[3])
+    scale, offset = budget.output_scale, budget.output_offset
+    value = budget.compiled.value
     done = [0]
 
     def model(*x: np.ndarray) -> np.ndarray:
@@ -351,50 +357,7 @@ def simulate_budget(
             progress(done[0], total)
         return y
 
-    inputs = budget.si_inputs()
-    correlation = budget.correlation_matrix
-    p = budget.coverage_probability
-    if adaptive:
-        mc = run_adaptive(
-            model,
-            inputs,
-            correlation=correlation,
-            significant_digits=significant_digits,
-            coverage_probability=p,
-            rng=rng,
-            seed=seed,
-            max_trials=max_trials,
-            interval=interval,
-        )
-    else:
-        mc = run_monte_carlo(
-            model,
-            inputs,
-            correlation=correlation,
-            trials=total,
-            rng=rng,
-            seed=seed,
-            coverage_probability=p,
-        )
-        if interval == "shortest":
-            mc = replace(mc, interval_kind="shortest", interval=mc.shortest_interval)
-    validation = validate_against(
-        first_order.value,
-        first_order.expanded_uncertainty,
-        mc,
-        significant_digits=significant_digits,
-        reference=first_order.method,
-    )
-    reason = _validation_not_applicable(inputs, first_order, mc, adaptive)
-    if reason:
-        validation = replace(validation, validated=False, not_applicable=reason)
-    return BudgetSimulation(
-        budget=budget,
-        first_order=first_order,
-        mc=mc,
-        validation=validation,
-        significant_digits=int(significant_digits),
-    )
+    return model
 
 
 def _validation_not_applicable(

@@ -19,13 +19,25 @@ import numpy as np
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import BudgetResult
 
-__all__ = ["INPUT_KEYS", "RESULT_KEYS", "dumps", "jsonable", "result_to_dict"]
+__all__ = [
+    "INPUT_KEYS",
+    "RESULT_KEYS",
+    "SCHEMA_VERSION",
+    "dumps",
+    "jsonable",
+    "result_to_dict",
+    "schema",
+]
+
+#: Version of every JSON object the package writes; each object names its kind and this
+#: version in its ``schema`` key (``"viscometry.evaluate/1"``), documented in docs/json.md.
+SCHEMA_VERSION = 1
 
 #: Keys of the JSON object of a result, in order.
 RESULT_KEYS = (
-    "measurand", "unit", "value", "standard_uncertainty", "effective_dof",
+    "schema", "measurand", "unit", "value", "standard_uncertainty", "effective_dof",
     "coverage_probability", "coverage_factor", "expanded_uncertainty",
-    "relative_expanded_uncertainty", "statement", "method", "inputs", "warnings",
+    "relative_expanded_uncertainty", "statement", "propagation", "inputs", "warnings",
     "fingerprint", "version",
 )  # fmt: skip
 
@@ -36,52 +48,40 @@ INPUT_KEYS = (
 )  # fmt: skip
 
 
-def result_to_dict(result: BudgetResult, fingerprint: str | None = None) -> dict[str, Any]:
+def schema(kind: str) -> str:
+    """The ``schema`` value of a JSON object of one kind: ``"viscometry.<kind>/<version>"``."""
+    return f"viscometry.{kind}/{SCHEMA_VERSION}"
+
+
+def result_to_dict(result: BudgetResult, kind: str = "evaluate") -> dict[str, Any]:
     """The JSON object of an evaluated budget.
 
     Parameters
     ----------
     result : BudgetResult
-    fingerprint : str, optional
-        The budget file's fingerprint. When omitted it is computed from the budget's own
-        description (``null`` if the model cannot be written as a formula).
+    kind : str
+        The command (or report) the object is made for, named in ``schema``.
 
     Returns
     -------
     dict
         Keys :data:`RESULT_KEYS`; ``effective_dof`` and input ``dof`` may be ``math.inf``
-        (written as ``"inf"`` by :func:`dumps`).
+        (written as ``"inf"`` by :func:`dumps`); ``fingerprint`` is the budget's.
 
     Examples
     --------
     >>> from viscometry.gum import Budget, InputQuantity
     >>> b = Budget.from_formula("y", "2*x", [InputQuantity.normal("x", 1.5, 0.1, "m")], "m")
     >>> d = result_to_dict(b.evaluate())
-    >>> d["value"], d["effective_dof"], d["inputs"][0]["sensitivity"]
-    (3.0, inf, 2.0)
+    >>> d["schema"], d["value"], d["effective_dof"], d["inputs"][0]["sensitivity"]
+    ('viscometry.evaluate/1', 3.0, inf, 2.0)
     """
     from viscometry import __version__
+    from viscometry.text import statement
 
-    if fingerprint is None:
-        fingerprint = _budget_fingerprint(result)
-    inputs = [
-        {
-            "name": c.name,
-            "value": c.value,
-            "unit": c.unit,
-            "standard_uncertainty": c.standard_uncertainty,
-            "distribution": c.distribution,
-            "evaluation": c.evaluation,
-            "dof": c.dof,
-            "sensitivity": c.sensitivity,
-            "sensitivity_unit": c.sensitivity_unit,
-            "relative_sensitivity": c.relative_sensitivity,
-            "contribution": c.contribution,
-            "variance_share": c.variance_share,
-        }
-        for c in result.contributions
-    ]
+    inputs = [{k: getattr(c, k) for k in INPUT_KEYS} for c in result.contributions]
     out = {
+        "schema": schema(kind),
         "measurand": result.measurand,
         "unit": result.unit,
         "value": result.value,
@@ -91,25 +91,14 @@ def result_to_dict(result: BudgetResult, fingerprint: str | None = None) -> dict
         "coverage_factor": result.coverage_factor,
         "expanded_uncertainty": result.expanded_uncertainty,
         "relative_expanded_uncertainty": result.relative_expanded_uncertainty,
-        "statement": result.statement(),
-        "method": result.method,
+        "statement": statement(result),
+        "propagation": result.propagation,
         "inputs": inputs,
         "warnings": list(result.warnings),
-        "fingerprint": fingerprint,
+        "fingerprint": result.fingerprint,
         "version": __version__,
     }
     return {k: jsonable(out[k]) for k in RESULT_KEYS}
-
-
-def _budget_fingerprint(result: BudgetResult) -> str | None:
-    from viscometry.errors import ViscometryError
-    from viscometry.io.budget_file import budget_to_document
-    from viscometry.io.fingerprint import fingerprint
-
-    try:
-        return fingerprint(budget_to_document(result.budget, rounding=result.rounding))
-    except ViscometryError:
-        return None
 
 
 def jsonable(obj: Any) -> Any:

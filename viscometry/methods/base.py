@@ -2,14 +2,13 @@
 
 A method is a sympy expression over real symbols named like the model's inputs, plus the SI
 unit and a description of each input, the references and the validity of the equation, and a
-``check`` that turns the input estimates (SI floats) into validity warnings. ``budget`` wraps
-it into a :class:`viscometry.gum.Budget`; ``evaluate`` also appends the validity warnings to
-the result.
+``check`` that turns the input estimates (SI floats) into validity warnings. ``budget`` makes
+a :class:`viscometry.gum.Budget` of it; the budget runs the checks whenever it is evaluated,
+on every path.
 """
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import math
 import re
@@ -21,7 +20,7 @@ import numpy as np
 import sympy as sp
 
 from viscometry.errors import InputError, ModelError
-from viscometry.gum import Budget, BudgetResult, InputQuantity, MeasurementModel
+from viscometry.gum import Budget, InputQuantity, MeasurementModel
 
 __all__ = ["Method", "Checker", "symbols"]
 
@@ -289,14 +288,6 @@ class Method:
                 raise InputError(f"{n} {problem}, got {values_si[n]!r} {unit}".rstrip())
         return list(self.checker(self, values_si))
 
-    def check_budget(self, budget: Budget, context: Mapping[str, float] | None = None) -> list[str]:
-        """Validity warnings at a budget's input estimates (converted to SI)."""
-        x, _u, _nu, c = budget.si_arrays()
-        values = dict(zip(budget.input_names, (float(v) for v in x), strict=True))
-        values.update(zip((k.name for k in budget.constants), (float(v) for v in c), strict=True))
-        values.update(context or {})
-        return self.check(values)
-
     # ------------------------------------------------------------------ budgets
     def budget(
         self,
@@ -304,7 +295,7 @@ class Method:
         unit: str | None = None,
         **kw: Any,
     ) -> Budget:
-        """A :class:`~viscometry.gum.Budget` of this method.
+        """A :class:`~viscometry.gum.Budget` of this model (:meth:`Budget.from_method`).
 
         Parameters
         ----------
@@ -313,60 +304,20 @@ class Method:
         unit : str, optional
             Unit of the measurand; default ``output_unit``.
         **kw
-            Passed to :class:`~viscometry.gum.Budget` (``constants``, ``correlations``,
-            ``coverage_probability``, ``coverage_factor``, ``title``).
+            Passed to :meth:`~viscometry.gum.Budget.from_method` (``checks``, ``constants``,
+            ``correlations``, ``coverage_probability``, ``coverage_factor``, ``title``,
+            ``rounding``, ``description``).
 
         Raises
         ------
         ModelError
             If inputs are missing or extra (message names them).
         InputError
-            If an estimate in :attr:`positive_inputs` is not positive, or a temperature
-            difference is given in an offset unit (degC).
+            If an estimate in :attr:`positive_inputs` is not positive, a temperature
+            difference is given in an offset unit (degC), or a check-context value does not
+            fit (the error's ``where`` names the input or key).
         """
-        qs = tuple(inputs.values()) if isinstance(inputs, Mapping) else tuple(inputs)
-        given = [q.name for q in qs]
-        missing = [n for n in self.input_names if n not in given]
-        extra = [n for n in given if n not in self.input_names]
-        if missing or extra:
-            raise ModelError(
-                f"method {self.name}"
-                + (f": no input quantity for {', '.join(missing)}" if missing else "")
-                + (f"; not an input of this method: {', '.join(extra)}" if extra else "")
-                + f" (inputs: {', '.join(self.input_names)})"
-            )
-        kw.setdefault("title", self.title)
-        budget = Budget(self.model, qs, self.output_unit if unit is None else unit, **kw)
-        x = budget.si_arrays()[0]
-        for q, value_si in zip(budget.inputs, x, strict=True):
-            problem = self.estimate_problem(q.name, float(value_si), q.unit)
-            if problem:
-                raise InputError(f"{q.name} {problem}, got {q.value!r} {q.unit}".rstrip())
-        return budget
-
-    def evaluate(
-        self,
-        inputs: Iterable[InputQuantity] | Mapping[str, InputQuantity],
-        unit: str | None = None,
-        *,
-        context: Mapping[str, float] | None = None,
-        higher_order: bool = False,
-        **kw: Any,
-    ) -> BudgetResult:
-        """Build the budget, evaluate it and append this method's validity warnings."""
-        return self.evaluate_budget(
-            self.budget(inputs, unit, **kw), context=context, higher_order=higher_order
-        )
-
-    def evaluate_budget(
-        self, budget: Budget, *, context: Mapping[str, float] | None = None, **evaluate_kw: Any
-    ) -> BudgetResult:
-        """Evaluate ``budget`` and append this method's validity warnings to the result."""
-        result = budget.evaluate(**evaluate_kw)
-        extra = self.check_budget(budget, context)
-        if not extra:
-            return result
-        return dataclasses.replace(result, warnings=tuple(result.warnings) + tuple(extra))
+        return Budget.from_method(self, inputs, unit, **kw)
 
     # ------------------------------------------------------------------ listing
     def describe(self) -> dict[str, Any]:

@@ -48,7 +48,7 @@ from typing import Any
 import sympy as sp
 
 from viscometry.errors import InputError
-from viscometry.gum import Budget, BudgetResult, InputQuantity, MeasurementModel
+from viscometry.gum import Budget, BudgetResult, InputQuantity
 from viscometry.methods import flow_checks as fc
 from viscometry.methods.base import Method, symbols
 
@@ -217,7 +217,10 @@ class StepUpChain:
     Attributes
     ----------
     budget : Budget
-        One budget over every input; the measurand is C_N (``C<N>``) or ν_X (``nu_X``).
+        One budget over every input; the measurand is C_N (``C<N>``) or ν_X (``nu_X``). Its
+        model is a chain model (``budget.method.name == "step_up_chain"``) whose validity
+        checks — flow times (ISO 3104) and factor-3 steps (ASTM D2162) — run whenever the
+        budget is evaluated, on every path.
     constant_expressions : tuple of sympy.Expr
         C₁ … C_N as expressions of the inputs.
     """
@@ -229,33 +232,66 @@ class StepUpChain:
     def constants(self) -> tuple[float, ...]:
         """Estimates of C₁ … C_N [m²/s²]."""
         x, _u, _nu, _c = self.budget.si_arrays()
-        subs = {
-            self.budget.model.symbol(n): float(v)
-            for n, v in zip(self.budget.input_names, x, strict=True)
-        }
-        return tuple(float(e.xreplace(subs)) for e in self.constant_expressions)
+        values = dict(zip(self.budget.input_names, x, strict=True))
+        return _constant_values(self.constant_expressions, values)
 
     def check(self) -> list[str]:
         """Factor-3 steps (ASTM D2162) and flow times below the minimum (ISO 3104)."""
+        return list(self.budget.estimate_warnings)
+
+    def evaluate(self, **kw: Any) -> BudgetResult:
+        """Evaluate the chain's budget (its checks are among the result's warnings)."""
+        return self.budget.evaluate(**kw)
+
+
+def _constant_values(
+    expressions: Sequence[sp.Expr], values: Mapping[str, float]
+) -> tuple[float, ...]:
+    subs = {sp.Symbol(n, real=True): float(v) for n, v in values.items()}
+    return tuple(float(e.xreplace(subs)) for e in expressions)
+
+
+def _chain_checker(constants: tuple[sp.Expr, ...], minimum_flow_time: float) -> Any:
+    def check(method: Method, values: Mapping[str, float]) -> list[str]:
         out: list[str] = []
-        x, _u, _nu, _c = self.budget.si_arrays()
-        for name, value in zip(self.budget.input_names, x, strict=True):
+        for name in method.input_names:
             if name.startswith("t"):
-                out += [
-                    f"{name}: {w}" for w in fc.check_flow_time(float(value), self.minimum_flow_time)
-                ]
-        cs = self.constants()
+                found = fc.check_flow_time(float(values[name]), minimum_flow_time)
+                out += [f"{name}: {w}" for w in found]
+        cs = _constant_values(constants, {n: values[n] for n in method.input_names})
         for k in range(1, len(cs)):
             out += [f"step {k + 1}: {w}" for w in fc.check_step_ratio(cs[k - 1], cs[k])]
         return out
 
-    def evaluate(self, **kw: Any) -> BudgetResult:
-        """Evaluate the chain's budget and append :meth:`check`'s warnings."""
-        result = self.budget.evaluate(**kw)
-        extra = self.check()
-        if not extra:
-            return result
-        return dataclasses.replace(result, warnings=tuple(result.warnings) + tuple(extra))
+    return check
+
+
+#: SI unit of each kind of chain input, by the first letters of its name.
+_CHAIN_UNITS = (("nu_w", "m^2/s"), ("dT", "K"), ("alpha", "1/K"), ("t", "s"))
+
+
+def _chain_model(
+    inputs: Sequence[InputQuantity],
+    expr: sp.Expr,
+    constants: tuple[sp.Expr, ...],
+    output: str,
+    output_unit: str,
+    minimum_flow_time: float,
+) -> Method:
+    """The chain's model: its equation and its checks, as a (non-registry) built-in model."""
+    names = tuple(q.name for q in inputs)
+    units = {n: next(u for prefix, u in _CHAIN_UNITS if n.startswith(prefix)) for n in names}
+    return Method(
+        name="step_up_chain",
+        title=f"Step-up chain from water, {len(constants)} master viscometer(s)",
+        expression=expr, input_names=names, input_units=units,
+        input_descriptions={q.name: q.description for q in inputs},
+        output_name=output, output_unit=output_unit,
+        references=("ASTM D2162 (step-up procedure)", "ISO 3104 (minimum flow time)"),
+        validity="each step within a factor 3 of the last; flow times above the minimum",
+        checker=_chain_checker(constants, minimum_flow_time),
+        positive_inputs=tuple(n for n in names if n == "nu_w" or n.startswith(("t", "tp"))),
+    )  # fmt: skip
 
 
 def step_up_chain(
@@ -294,7 +330,8 @@ def step_up_chain(
     minimum_flow_time : float
         For the flow-time check [s] (default 200 s, ISO 3104).
     **budget_kw
-        Passed to :class:`~viscometry.gum.Budget` (coverage settings, title, correlations).
+        Passed to :meth:`~viscometry.gum.Budget.from_method` (coverage settings, title,
+        correlations, rounding).
 
     Returns
     -------
@@ -334,99 +371,86 @@ def step_up_chain(
         _renamed(water_flow_time, "t1", "flow time of water in master 1"),
     ]
     (nu_w, t1s) = symbols("nu_w t1")
-    shared = sp.Integer(0)
+    shared: sp.Expr = sp.Integer(0)
+    c_prev: sp.Expr = nu_w / t1s
     if thermometer_error is not None:
         dT_th, alpha_w = symbols("dT_th alpha_w")
         inputs.append(_renamed(thermometer_error, "dT_th", "bath thermometer error (shared)"))
-        inputs.append(
-            _renamed(
-                water_temperature_coefficient,
-                "alpha_w",
-                "relative temperature coefficient of water",
-            )  # type: ignore[arg-type]
-        )
+        alpha = "relative temperature coefficient of water"
+        inputs.append(_renamed(water_temperature_coefficient, "alpha_w", alpha))  # type: ignore[arg-type]
         shared = dT_th
-        c_prev: sp.Expr = nu_w * (1 + alpha_w * dT_th) / t1s
-    else:
-        c_prev = nu_w / t1s
+        c_prev = nu_w * (1 + alpha_w * dT_th) / t1s
     constants = [c_prev]
     for k, step in enumerate(steps, start=2):
-        if not isinstance(step, StepUpStep):
-            raise InputError(f"step {k} must be a StepUpStep, got {type(step).__name__}")
-        label = f" ({step.label})" if step.label else ""
-        tp, tk = symbols(f"tp{k} t{k}")
-        inputs.append(
-            _renamed(
-                step.time_in_known, f"tp{k}", f"flow time of liquid {k}{label} in master {k - 1}"
-            )
-        )
-        inputs.append(
-            _renamed(step.time_in_new, f"t{k}", f"flow time of liquid {k}{label} in master {k}")
-        )
-        factor: sp.Expr = tp / tk
-        if step.temperature_coefficient is not None:
-            (ak,) = symbols(f"alpha{k}")
-            inputs.append(
-                _renamed(
-                    step.temperature_coefficient,
-                    f"alpha{k}",
-                    f"relative temperature coefficient of liquid {k}{label}",
-                )
-            )
-            local: sp.Expr = sp.Integer(0)
-            if step.temperature_difference is not None:
-                (dk,) = symbols(f"dT{k}")
-                inputs.append(
-                    _renamed(
-                        step.temperature_difference,
-                        f"dT{k}",
-                        f"temperature difference between masters {k - 1} and {k}",
-                    )
-                )
-                local = dk
-            if shared != 0 or local != 0:
-                factor = factor * (1 + ak * (shared + local)) / (1 + ak * shared)
-            else:
-                raise InputError(
-                    f"step {k}: a temperature_coefficient without a thermometer_error or a "
-                    "temperature_difference has no effect; leave it out"
-                )
-        elif step.temperature_difference is not None:
-            raise InputError(f"step {k}: temperature_difference needs a temperature_coefficient")
-        c_prev = c_prev * factor
+        c_prev = c_prev * _step_factor(k, step, shared, inputs)
         constants.append(c_prev)
-    n_last = len(constants)
     if certified is not None:
-        (tX,) = symbols("t_X")
-        inputs.append(
-            _renamed(
-                certified.flow_time, "t_X", f"flow time of the certified liquid in master {n_last}"
-            )
-        )
-        expr = c_prev * tX
-        if certified.temperature_coefficient is not None:
-            if shared == 0:
-                raise InputError("certified.temperature_coefficient needs a thermometer_error")
-            (aX,) = symbols("alpha_X")
-            inputs.append(
-                _renamed(
-                    certified.temperature_coefficient,
-                    "alpha_X",
-                    "relative temperature coefficient of the certified liquid",
-                )
-            )
-            expr = expr / (1 + aX * shared)
-        elif shared != 0:
-            raise InputError("with a thermometer_error, certified needs a temperature_coefficient")
+        expr = _certified(certified, c_prev, shared, len(constants), inputs)
         output, default_unit = "nu_X", "m^2/s"
     else:
-        expr = c_prev
-        output, default_unit = f"C{n_last}", "m^2/s^2"
-    names = tuple(q.name for q in inputs)
-    model = MeasurementModel(expr, names, (), output)
-    budget_kw.setdefault("title", f"Step-up chain from water, {n_last} master viscometer(s)")
-    budget = Budget(model, tuple(inputs), default_unit if unit is None else unit, **budget_kw)
+        expr, output, default_unit = c_prev, f"C{len(constants)}", "m^2/s^2"
+    model = _chain_model(inputs, expr, tuple(constants), output, default_unit, minimum_flow_time)
+    budget_kw.setdefault("title", model.title)
+    budget = Budget.from_method(model, inputs, default_unit if unit is None else unit, **budget_kw)
     return StepUpChain(budget, tuple(constants), minimum_flow_time)
+
+
+def _step_factor(k: int, step: StepUpStep, shared: sp.Expr, inputs: list[InputQuantity]) -> sp.Expr:
+    """C_k/C_{k−1} of step k (appends the step's inputs)."""
+    if not isinstance(step, StepUpStep):
+        raise InputError(f"step {k} must be a StepUpStep, got {type(step).__name__}")
+    label = f" ({step.label})" if step.label else ""
+    tp, tk = symbols(f"tp{k} t{k}")
+    inputs.append(
+        _renamed(step.time_in_known, f"tp{k}", f"flow time of liquid {k}{label} in master {k - 1}")
+    )
+    inputs.append(
+        _renamed(step.time_in_new, f"t{k}", f"flow time of liquid {k}{label} in master {k}")
+    )
+    factor: sp.Expr = tp / tk
+    if step.temperature_coefficient is None:
+        if step.temperature_difference is not None:
+            raise InputError(f"step {k}: temperature_difference needs a temperature_coefficient")
+        return factor
+    (ak,) = symbols(f"alpha{k}")
+    alpha = f"relative temperature coefficient of liquid {k}{label}"
+    inputs.append(_renamed(step.temperature_coefficient, f"alpha{k}", alpha))
+    local: sp.Expr = sp.Integer(0)
+    if step.temperature_difference is not None:
+        (dk,) = symbols(f"dT{k}")
+        gap = f"temperature difference between masters {k - 1} and {k}"
+        inputs.append(_renamed(step.temperature_difference, f"dT{k}", gap))
+        local = dk
+    if shared == 0 and local == 0:
+        raise InputError(
+            f"step {k}: a temperature_coefficient without a thermometer_error or a "
+            "temperature_difference has no effect; leave it out"
+        )
+    return factor * (1 + ak * (shared + local)) / (1 + ak * shared)
+
+
+def _certified(
+    certified: CertifiedLiquid,
+    c_last: sp.Expr,
+    shared: sp.Expr,
+    n_last: int,
+    inputs: list[InputQuantity],
+) -> sp.Expr:
+    """ν_X of a liquid certified in the last master (appends its inputs)."""
+    (tX,) = symbols("t_X")
+    where = f"flow time of the certified liquid in master {n_last}"
+    inputs.append(_renamed(certified.flow_time, "t_X", where))
+    expr = c_last * tX
+    if certified.temperature_coefficient is not None:
+        if shared == 0:
+            raise InputError("certified.temperature_coefficient needs a thermometer_error")
+        (aX,) = symbols("alpha_X")
+        alpha = "relative temperature coefficient of the certified liquid"
+        inputs.append(_renamed(certified.temperature_coefficient, "alpha_X", alpha))
+        return expr / (1 + aX * shared)
+    if shared != 0:
+        raise InputError("with a thermometer_error, certified needs a temperature_coefficient")
+    return expr
 
 
 # ============================================================================ water helpers

@@ -22,12 +22,17 @@ from typing import Any
 
 import ipywidgets as widgets
 
-from viscometry import units as _units
 from viscometry.errors import ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
-from viscometry.gum.rounding import Rounding
 from viscometry.plots import figure_png, pareto_figure
-from viscometry.report_text import budget_html, format_dof
+from viscometry.text import (
+    budget_html,
+    format_dof,
+    format_number,
+    format_unit,
+    statement,
+    unit_suffix,
+)
 
 __all__ = ["BudgetEditor", "budget_editor"]
 
@@ -68,8 +73,6 @@ class BudgetEditor:
         Restores every control to the budget as given.
     baseline : Budget
         The budget as given (never modified).
-    rounding : {"nearest", "up", "ea-4/02"}
-        Rounding rule of the statement.
     chart_dpi : float
         Resolution of the chart image [dots per inch].
     """
@@ -81,7 +84,6 @@ class BudgetEditor:
     chart: widgets.Image
     reset_button: widgets.Button
     baseline: Budget
-    rounding: Rounding = "nearest"
     chart_dpi: float = 80.0
     _state: _EditorState = field(repr=False, default=None)  # type: ignore[assignment]
 
@@ -108,26 +110,19 @@ class BudgetEditor:
         finally:
             state.hold = False
         state.budget = self.baseline
-        state.result = self.baseline.evaluate(rounding=self.rounding)
+        state.result = self.baseline.evaluate()
         state.error = None
         _redraw(self)
 
 
-def budget_editor(
-    budget: Budget,
-    *,
-    rounding: Rounding = "nearest",
-    chart_dpi: float = 80.0,
-) -> BudgetEditor:
+def budget_editor(budget: Budget, *, chart_dpi: float = 80.0) -> BudgetEditor:
     """Build a what-if editor for the input standard uncertainties of ``budget``.
 
     Parameters
     ----------
     budget : Budget
         The budget as given; the controls start at its standard uncertainties, so the
-        editor's first result is exactly ``budget.evaluate(rounding=rounding)``.
-    rounding : {"nearest", "up", "ea-4/02"}
-        Rounding rule of the statement (see :func:`viscometry.gum.round_result`).
+        editor's first result is exactly ``budget.evaluate()``.
     chart_dpi : float
         Resolution of the Pareto chart image [dots per inch].
 
@@ -161,7 +156,7 @@ def budget_editor(
     >>> b.input("a").standard_uncertainty  # the budget as given is untouched
     0.02
     """
-    result = budget.evaluate(rounding=rounding)
+    result = budget.evaluate()
     state = _EditorState(budget, result)
     controls: dict[str, widgets.BoundedFloatText] = {}
     rows = []
@@ -178,7 +173,7 @@ def budget_editor(
             layout=widgets.Layout(width="18em"),
         )
         control.add_class(f"viscometry-u-{q.name}")  # stable hook for browser tests
-        unit = _units.format_unit(q.unit) if q.unit else ""
+        unit = format_unit(q.unit)
         controls[q.name] = control
         rows.append(widgets.HBox([control, widgets.Label(unit)]))
     reset_button = widgets.Button(description="Reset", tooltip="back to the budget as given")
@@ -205,7 +200,6 @@ def budget_editor(
         chart=chart,
         reset_button=reset_button,
         baseline=budget,
-        rounding=rounding,
         chart_dpi=chart_dpi,
         _state=state,
     )
@@ -226,7 +220,7 @@ def _make_callback(editor: BudgetEditor, name: str) -> Any:
             return
         try:
             budget = state.budget.with_uncertainty(name, new_u)
-            result = budget.evaluate(rounding=editor.rounding)
+            result = budget.evaluate()
         except ViscometryError as exc:
             state.error = f"u({name}) = {new_u:.6g} cannot be evaluated: {exc}"
         else:
@@ -248,8 +242,8 @@ def _statement_html(editor: BudgetEditor) -> str:
     state = editor._state
     result = state.result
     e = html.escape
-    unit = _units.format_unit(result.unit) if result.unit else ""
-    lines = [f"<b>{e(result.statement())}</b>"]
+    unit = format_unit(result.unit)
+    lines = [f"<b>{e(statement(result))}</b>"]
     lines.append(
         e(
             f"u_c = {result.standard_uncertainty:.2g} {unit}, "
@@ -259,9 +253,8 @@ def _statement_html(editor: BudgetEditor) -> str:
         )
     )
     changed = [
-        f"u({q.name}): {q.standard_uncertainty:.6g} → "
-        f"{state.budget.input(q.name).standard_uncertainty:.6g}"
-        + (f" {_units.format_unit(q.unit)}" if q.unit else "")
+        f"u({q.name}): {format_number(q.standard_uncertainty)} → "
+        f"{format_number(state.budget.input(q.name).standard_uncertainty)}{unit_suffix(q.unit)}"
         for q in editor.baseline.inputs
         if state.budget.input(q.name).standard_uncertainty != q.standard_uncertainty
     ]

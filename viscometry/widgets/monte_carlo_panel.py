@@ -22,13 +22,19 @@ from typing import Any
 
 import ipywidgets as widgets
 
-from viscometry import units as _units
 from viscometry.errors import InputError, ViscometryError
 from viscometry.gum.budget import Budget
 from viscometry.gum.montecarlo import IntervalKind
 from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 from viscometry.mc_plots import monte_carlo_figure
 from viscometry.plots import figure_png
+from viscometry.text import (
+    format_number,
+    format_unit,
+    simulation_lines,
+    unit_suffix,
+    validation_statement,
+)
 
 __all__ = ["MonteCarloPanel", "monte_carlo_panel"]
 
@@ -235,7 +241,7 @@ def monte_carlo_panel(
         raise InputError(f"seed must be a non-negative integer, got {seed!r}")
     if interval not in ("symmetric", "shortest"):
         raise InputError(f"interval must be 'symmetric' or 'shortest', got {interval!r}")
-    unit = _units.format_unit(q.unit) if q.unit else ""
+    unit = format_unit(q.unit)
     upper = _CONTROL_RANGE * max(abs(q.value), q.standard_uncertainty, 1.0)
     style = {"description_width": "7em"}
     uncertainty = widgets.BoundedFloatText(
@@ -338,14 +344,15 @@ def _result_html(panel: MonteCarloPanel, state: _PanelState) -> str:
         lines.append("no Monte Carlo run yet: press Run")
     else:
         colour = "#060" if sim.validated else "#a00"
-        lines.append(f"<b style='color:{colour}'>{e(sim.statement())}</b>")
+        lines.append(
+            f"<b style='color:{colour}'>{e(validation_statement(sim.validation, sim.unit))}</b>"
+        )
         q = sim.budget.input(panel.input_name)
-        unit = f" {_units.format_unit(q.unit)}" if q.unit else ""
-        lines.append(e(f"with u({q.name}) = {q.standard_uncertainty:.6g}{unit}"))
-        lines += [e(line) for line in sim.summary_lines()[:-1]]
-        lines += [
-            f"<span style='color:#a00'>warning: {e(w)}</span>" for w in sim.first_order.warnings
-        ]
+        lines.append(
+            e(f"with u({q.name}) = {format_number(q.standard_uncertainty)}{unit_suffix(q.unit)}")
+        )
+        lines += [e(line) for line in simulation_lines(sim)[:5]]
+        lines += [f"<span style='color:#a00'>warning: {e(w)}</span>" for w in sim.warnings]
         if state.stale:
             lines.append("<i>settings changed since this run: press Run</i>")
     if state.error is not None:

@@ -28,20 +28,14 @@ from typing import Any
 
 import ipywidgets as widgets
 
-from viscometry import units as _units
 from viscometry.errors import InputError
 from viscometry.gum.budget import Budget
-from viscometry.planning import (
-    TARGET_TOLERANCE,
-    UpgradeCandidate,
-    UpgradeOption,
-    UpgradePlan,
-    evaluate_upgrades,
-)
+from viscometry.planning import UpgradeCandidate, UpgradeOption, UpgradePlan, evaluate_upgrades
 from viscometry.planning_plots import plot_upgrades
 from viscometry.plots import figure_png
+from viscometry.text import format_cost, format_unit, per_cost_text, percent_change
 
-__all__ = ["UpgradeExplorer", "upgrade_explorer", "cheapest_reaching", "format_u"]
+__all__ = ["UpgradeExplorer", "upgrade_explorer", "format_u"]
 
 
 def format_u(x: float) -> str:
@@ -58,39 +52,13 @@ def format_u(x: float) -> str:
     return f"{x:.4g}"
 
 
-def _format_cost(x: float) -> str:
-    return f"{x:,.0f}" if float(x).is_integer() else f"{x:,.2f}"
-
-
-def cheapest_reaching(options: Iterable[UpgradeOption], target: float) -> UpgradeOption | None:
-    """The cheapest option with U ≤ target, by the same rule as ``evaluate_upgrades``.
-
-    Parameters
-    ----------
-    options : iterable of UpgradeOption
-        Evaluated sets (e.g. ``plan.options``).
-    target : float
-        Target expanded uncertainty, > 0. [measurand unit]
-
-    Returns
-    -------
-    UpgradeOption or None
-        Ties: the larger reduction, then fewer candidates; ``None`` when no option reaches
-        the target. "Reaches" allows round-off only: U ≤ target·(1 + ``TARGET_TOLERANCE``).
-    """
-    reaching = [o for o in options if o.expanded_uncertainty <= target * (1 + TARGET_TOLERANCE)]
-    if not reaching:
-        return None
-    return min(reaching, key=lambda o: (o.cost, -o.reduction, len(o.candidates)))
-
-
 class _ExplorerState:
-    """The one mutable part of an explorer: extra (on-demand) options and the last view."""
+    """The one mutable part of an explorer: options evaluated on demand and the last view."""
 
-    __slots__ = ("extra", "view")
+    __slots__ = ("plan", "view")
 
-    def __init__(self) -> None:
-        self.extra: dict[frozenset[str], UpgradeOption] = {}
+    def __init__(self, plan: UpgradePlan) -> None:
+        self.plan = plan
         self.view: UpgradePlan | None = None
 
 
@@ -156,15 +124,13 @@ class UpgradeExplorer:
         return t if math.isfinite(t) and t > 0 else None
 
     def option_for(self, names: Iterable[str]) -> UpgradeOption:
-        """The evaluated option for a set of candidate names (looked up, never re-evaluated
-        when the plan was exhaustive)."""
-        key = frozenset(names)
-        for o in self.plan.options:
-            if frozenset(o.candidates) == key:
-                return self._with_target(o)
-        if key not in self._state.extra:
-            self._state.extra[key] = _evaluate_one(self.plan, key)
-        return self._with_target(self._state.extra[key])
+        """The evaluated option for a set of candidate names, judged against the current
+        target (looked up; a set a greedy plan did not visit is evaluated once and kept)."""
+        state = self._state
+        option = state.plan.option(names)
+        if option not in state.plan.options:
+            state.plan = replace(state.plan, options=state.plan.options + (option,))
+        return replace(option, reaches_target=option.reaches(self.current_target()))
 
     def selected_result(self) -> UpgradeOption:
         """The option of the ticked set (the baseline when nothing is ticked), with
@@ -177,18 +143,12 @@ class UpgradeExplorer:
 
     def cheapest(self) -> UpgradeOption | None:
         """The cheapest evaluated set reaching the current target (None without a target)."""
-        t = self.current_target()
-        if t is None:
-            return None
-        return self._with_target(cheapest_reaching(self._options(), t))
+        return self.current_plan().cheapest
 
     def current_plan(self) -> UpgradePlan:
-        """The plan as the explorer shows it: the current target, the cheapest set reaching
-        it and ``reaches_target`` of each option updated (no re-evaluation)."""
-        t = self.current_target()
-        options = tuple(self._with_target(o) for o in self._options())
-        cheapest = cheapest_reaching(options, t) if t is not None else None
-        return replace(self.plan, options=options, target=t, cheapest=cheapest)
+        """The plan as the explorer shows it: judged against the current target by
+        :meth:`viscometry.planning.UpgradePlan.with_target` (no re-evaluation)."""
+        return self._state.plan.with_target(self.current_target())
 
     # ------------------------------------------------------------------ updates
     def refresh(self) -> None:
@@ -201,52 +161,16 @@ class UpgradeExplorer:
         if self.show_chart:
             self.chart.value = figure_png(_chart(view, chosen), dpi=self.chart_dpi)
 
-    # ------------------------------------------------------------------ helpers
-    def _options(self) -> tuple[UpgradeOption, ...]:
-        return self.plan.options + tuple(self._state.extra.values())
-
-    def _with_target(self, o: UpgradeOption | None) -> Any:
-        if o is None:
-            return None
-        t = self.current_target()
-        reach = None if t is None else o.expanded_uncertainty <= t * (1 + TARGET_TOLERANCE)
-        return o if o.reaches_target == reach else replace(o, reaches_target=reach)
-
-
-def _evaluate_one(plan: UpgradePlan, key: frozenset[str]) -> UpgradeOption:
-    """Evaluate one set a greedy plan did not visit (same combination rule, full evaluation)."""
-    names = tuple(c.name for c in plan.candidates if c.name in key)
-    result = plan.budget_for(names).evaluate()
-    cost = sum(c.cost for c in plan.candidates if c.name in key)
-    reduction = plan.baseline.expanded_uncertainty - result.expanded_uncertainty
-    if cost > 0:
-        per_cost = reduction / cost
-    else:
-        per_cost = 0.0 if reduction == 0 else math.copysign(math.inf, reduction)
-    return UpgradeOption(
-        candidates=names, cost=float(cost), value=result.value,
-        standard_uncertainty=result.standard_uncertainty, effective_dof=result.effective_dof,
-        coverage_factor=result.coverage_factor, expanded_uncertainty=result.expanded_uncertainty,
-        reduction=reduction, reduction_per_cost=per_cost, dominant=result.dominant.name,
-        reaches_target=None,
-    )  # fmt: skip
-
 
 # =============================================================================== rendering
 
 
 def _units_text(plan: UpgradePlan) -> str:
-    return _units.format_unit(plan.unit) if plan.unit else ""
+    return format_unit(plan.unit)
 
 
 def _money(explorer: UpgradeExplorer, cost: float) -> str:
-    return f"{_format_cost(cost)} {explorer.currency}".rstrip()
-
-
-def _percent_change(before: float, after: float) -> str:
-    if before == 0:
-        return ""
-    return f" ({100 * (after - before) / before:+.1f} %)"
+    return f"{format_cost(cost)} {explorer.currency}".rstrip()
 
 
 def _summary_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeOption) -> str:
@@ -258,7 +182,7 @@ def _summary_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeO
     lines = [
         f"<b>ticked:</b> {e(chosen.label)}",
         f"<b>U before:</b> {format_u(before)}{e(u_unit)} &rarr; <b>U after:</b> "
-        f"{format_u(after)}{e(u_unit)}{e(_percent_change(before, after))}",
+        f"{format_u(after)}{e(u_unit)}{e(percent_change(before, after))}",
         f"<b>cost:</b> {e(_money(explorer, chosen.cost))}",
         f"<b>dominant input after:</b> {e(chosen.dominant)}",
     ]
@@ -287,7 +211,7 @@ def _summary_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeO
                 f"<b>cheapest set reaching the target:</b> {e(c.label)}, cost "
                 f"{e(_money(explorer, c.cost))}, U = {format_u(c.expanded_uncertainty)}{e(u_unit)}"
             )
-    if view.method == "greedy":
+    if view.search == "greedy":
         lines.append(
             "<i>more candidates than the exhaustive limit: sets were searched greedily, so the "
             "cheapest set is the cheapest among the sets evaluated</i>"
@@ -299,13 +223,6 @@ def _row(cells: Sequence[str], header: bool = False, mark: str = "") -> str:
     tag = "th" if header else "td"
     style = f" style='{mark}'" if mark else ""
     return f"<tr{style}>" + "".join(f"<{tag}>{c}</{tag}>" for c in cells) + "</tr>"
-
-
-def _per_cost_text(o: UpgradeOption) -> str:
-    x = o.reduction_per_cost
-    if math.isinf(x):
-        return "free" if x > 0 else "free, worse"
-    return f"{x:.3g}"
 
 
 def _table_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeOption) -> str:
@@ -333,9 +250,9 @@ def _table_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeOpt
         header.append("reaches target")
 
     def cells(i: int, o: UpgradeOption) -> list[str]:
-        row = [str(i), e(o.label), e(_format_cost(o.cost)), format_u(o.expanded_uncertainty),
+        row = [str(i), e(o.label), e(format_cost(o.cost)), format_u(o.expanded_uncertainty),
                f"{100 * o.relative_expanded_uncertainty:.3g} %", f"{o.reduction:.3g}",
-               _per_cost_text(o), e(o.dominant)]  # fmt: skip
+               per_cost_text(o.reduction_per_cost), e(o.dominant)]  # fmt: skip
         if view.target is not None:
             row.append(reach(o))
         return row
@@ -343,14 +260,14 @@ def _table_html(explorer: UpgradeExplorer, view: UpgradePlan, chosen: UpgradeOpt
     singles = [o for o in view.options if len(o.candidates) == 1]
     by_name = {c.name: i for i, c in enumerate(view.candidates)}
     singles.sort(key=lambda o: (-o.reduction_per_cost, -o.reduction, by_name[o.candidates[0]]))
-    ranked = sorted(view.options, key=lambda o: (o.expanded_uncertainty, o.cost, len(o.candidates)))
+    ranked = list(view.ranked)
     shown = ranked[: max(int(explorer.top), 1)]
     keys = {frozenset(o.candidates) for o in shown}
     extra = [o for o in (chosen, cheapest) if o is not None and frozenset(o.candidates) not in keys]
     parts = [
         "<div class='viscometry-upgrade-table'>",
         f"<p>baseline U = {format_u(view.baseline.expanded_uncertainty)}{e(' ' + unit if unit else '')}"
-        f"; {len(view.options)} sets evaluated ({view.method})</p>",
+        f"; {len(view.options)} sets evaluated ({view.search})</p>",
         "<b>candidates alone, ranked by reduction of U per unit cost</b>",
         "<table>", _row(header, header=True),
         *(_row(cells(i, o), mark=mark(o)) for i, o in enumerate(singles, 1)),
@@ -451,7 +368,8 @@ def upgrade_explorer(
     All sets are evaluated once (JCGM 100:2008, 5.1.2, G.4.1, G.6.4; see
     :func:`~viscometry.planning.evaluate_upgrades` for the combination rule). The cheapest
     set reaching a target is chosen among the evaluated sets with the rule of
-    :func:`cheapest_reaching`; a change of target re-ranks without re-evaluating.
+    :func:`viscometry.planning.cheapest_reaching`; a change of target re-ranks without
+    re-evaluating.
 
     Examples
     --------
@@ -475,12 +393,12 @@ def upgrade_explorer(
     for n in ticked:
         if n not in names:
             raise InputError(f"ticked candidate {n!r} is not one of: {', '.join(names)}")
-    unit = _units.format_unit(budget.unit) if budget.unit else ""
+    unit = format_unit(budget.unit)
     money = f" {currency}" if currency else ""
     boxes = {
         c.name: widgets.Checkbox(
             value=c.name in ticked,
-            description=f"{c.name} ({_format_cost(c.cost)}{money})",
+            description=f"{c.name} ({format_cost(c.cost)}{money})",
             description_allow_html=False,
             indent=False,
             tooltip=c.description or c.name,
@@ -529,7 +447,7 @@ def upgrade_explorer(
         top=top,
         chart_dpi=chart_dpi,
         show_chart=show_chart,
-        _state=_ExplorerState(),
+        _state=_ExplorerState(plan),
     )
 
     def on_change(_change: Mapping[str, Any]) -> None:

@@ -1,8 +1,8 @@
-"""The audit table over many budget files (viscometry.audit_table).
+"""Audits of budget files and the audit table over many of them (viscometry.audit).
 
 No numeric check values here: the example files are invented demo data. The tests check that
-the table reports what :func:`viscometry.commands.audit.audit_file` decides, file by file,
-and that a modified copy (in a temporary folder, never in examples/) is caught.
+the table reports what :func:`viscometry.audit.audit_file` decides, file by file, and that a
+modified copy (in a temporary folder, never in examples/) is caught.
 """
 
 from __future__ import annotations
@@ -12,8 +12,16 @@ from pathlib import Path
 
 import pytest
 
-from viscometry.audit_table import AUDIT_COLUMNS, audit_paths, audit_table, fingerprint_status
-from viscometry.commands.audit import audit_file
+from viscometry.audit import (
+    AUDIT_COLUMNS,
+    VERDICTS,
+    audit_file,
+    audit_paths,
+    audit_table,
+    collect_files,
+    exit_code,
+    fingerprint_status,
+)
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = ROOT / "examples"
@@ -89,3 +97,36 @@ def test_broken_file_and_empty_folder_are_errors(tmp_path: Path) -> None:
     shutil.copy(EXAMPLES / "upgrades" / "pressure_capillary_upgrades.toml", empty)
     (v,) = audit_paths([empty])
     assert v.status == "error" and "no budget files" in v.messages[0]
+
+
+@pytest.mark.parametrize("content", ["", "# every line commented out\n"], ids=["empty", "comments"])
+def test_emptied_budget_file_in_a_folder_is_an_error_not_skipped(
+    tmp_path: Path, content: str
+) -> None:
+    # an emptied budget file has lost its budget: scanning the folder must report it
+    shutil.copy(PRIMARY, tmp_path / PRIMARY.name)
+    emptied = tmp_path / "emptied.toml"
+    emptied.write_text(content, encoding="utf-8")
+    shutil.copy(EXAMPLES / "upgrades" / "pressure_capillary_upgrades.toml", tmp_path)
+    files, empty_folders = collect_files([tmp_path])
+    # the candidates list is still skipped; the emptied file is not
+    assert [f.name for f in files] == ["emptied.toml", PRIMARY.name] and empty_folders == []
+    verdicts = audit_paths([tmp_path])
+    by_name = {Path(v.path).name: v for v in verdicts}
+    assert set(by_name) == {"emptied.toml", PRIMARY.name}
+    v = by_name["emptied.toml"]
+    assert v.status == "error" and "missing key format" in v.messages[0]
+    assert by_name[PRIMARY.name].status == "match"
+    assert exit_code(verdicts) == VERDICTS["error"] == 2
+    row = audit_table([v], relative_to=tmp_path).iloc[0]
+    assert (row["file"], row["verdict"], row["fingerprint"]) == ("emptied.toml", "error", "—")
+
+
+def test_collect_files_reports_folders_without_budget_files(tmp_path: Path) -> None:
+    (tmp_path / "notes.toml").write_text('title = "not a budget"\n', encoding="utf-8")
+    files, empty_folders = collect_files([tmp_path, PRIMARY])
+    assert files == [PRIMARY]  # a file named explicitly is always audited
+    (v,) = empty_folders
+    assert v.path == str(tmp_path) and v.status == "error"
+    assert "no budget files" in v.messages[0]
+    assert exit_code(empty_folders) == 2 and exit_code([]) == 2

@@ -1,0 +1,143 @@
+"""A budget linearised at its estimates: the fast path for sliders and what-ifs on uncertainties.
+
+Sensitivity coefficients depend on the estimates only (JCGM 100:2008, 5.1.3), so changing
+standard uncertainties needs no new derivative and no model call. A
+:class:`LinearisedBudget` keeps cᵢ, u(xᵢ), νᵢ and the correlation matrix and gets u_c, ν_eff,
+k and U from the one propagation kernel (:func:`viscometry.gum.propagation.propagate`), the
+same function :meth:`viscometry.gum.Budget.evaluate` calls. Its warnings are the budget's
+estimate warnings plus the plausibility warnings of the current uncertainties, so a slider
+shows what a full evaluation would.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from viscometry.errors import InputError
+from viscometry.gum.propagation import Propagation, propagate
+from viscometry.gum.validity import uncertainty_warnings
+
+if TYPE_CHECKING:  # pragma: no cover
+    from viscometry.gum.budget import Budget
+
+__all__ = ["LinearisedBudget"]
+
+
+def frozen_array(a: object) -> np.ndarray:
+    """A read-only float copy of ``a``."""
+    out = np.array(a, dtype=float)
+    out.setflags(write=False)
+    return out
+
+
+@dataclass(frozen=True, eq=False)
+class LinearisedBudget:
+    """A first-order budget linearised at fixed estimates (measurand unit; inputs' own units).
+
+    Built by :meth:`viscometry.gum.Budget.linearise`; cheap to copy with new standard
+    uncertainties; derived numbers are computed on first access.
+
+    Examples
+    --------
+    >>> from viscometry.gum import Budget, InputQuantity
+    >>> b = Budget.from_formula("y", "a + 2*b", [InputQuantity.normal("a", 1.0, 0.3),
+    ...                                          InputQuantity.normal("b", 1.0, 0.2)])
+    >>> lin = b.linearise()
+    >>> round(lin.standard_uncertainty, 12), round(lin.with_uncertainty("b", 0.0).standard_uncertainty, 12)
+    (0.5, 0.3)
+    """
+
+    budget: Budget
+    value: float
+    sensitivities: np.ndarray
+    uncertainties: np.ndarray
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return self.budget.input_names
+
+    @functools.cached_property
+    def dofs(self) -> np.ndarray:
+        """νᵢ of the inputs (read-only)."""
+        return frozen_array([q.dof for q in self.budget.inputs])
+
+    def with_uncertainty(self, name: str, standard_uncertainty: float) -> LinearisedBudget:
+        """A copy where input ``name`` has another standard uncertainty (its own unit)."""
+        return self.with_uncertainties({name: standard_uncertainty})
+
+    def with_uncertainties(self, changes: dict[str, float]) -> LinearisedBudget:
+        """A copy with several standard uncertainties changed (each ≥ 0, own unit)."""
+        u = self.uncertainties.copy()
+        for name, value in changes.items():
+            try:
+                i = self.names.index(name)
+            except ValueError:
+                raise InputError(
+                    f"no input named {name!r} (inputs: {', '.join(self.names)})"
+                ) from None
+            if not (math.isfinite(value) and value >= 0):
+                raise InputError(f"{name}.standard_uncertainty must be non-negative, got {value!r}")
+            u[i] = value
+        return replace(self, uncertainties=frozen_array(u))
+
+    @functools.cached_property
+    def _propagation(self) -> Propagation:
+        b = self.budget
+        return propagate(
+            self.sensitivities, self.uncertainties, self.dofs, b.correlation_matrix,
+            coverage_probability=b.coverage_probability, coverage_factor=b.coverage_factor,
+        )  # fmt: skip
+
+    @property
+    def contributions(self) -> np.ndarray:
+        """Signed cᵢu(xᵢ) in the measurand unit."""
+        return self._propagation.contributions
+
+    @property
+    def standard_uncertainty(self) -> float:
+        return float(self._propagation.standard_uncertainty)
+
+    @property
+    def effective_dof(self) -> float:
+        return float(self._propagation.effective_dof)
+
+    @property
+    def coverage_factor(self) -> float:
+        return float(self._propagation.coverage_factor)
+
+    @property
+    def coverage_probability(self) -> float:
+        return float(self._propagation.coverage_probability)
+
+    @property
+    def expanded_uncertainty(self) -> float:
+        return float(self._propagation.expanded_uncertainty)
+
+    @property
+    def variance_shares(self) -> np.ndarray:
+        """(cᵢu(xᵢ))²/u_c² per input (correlation cross-terms not included)."""
+        v = self.standard_uncertainty**2
+        return self.contributions**2 / v if v > 0 else np.zeros_like(self.contributions)
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The budget's estimate warnings and the plausibility warnings of these u(xᵢ)."""
+        b = self.budget
+        inputs = [
+            q.with_uncertainty(float(u)) for q, u in zip(b.inputs, self.uncertainties, strict=True)
+        ]
+        notes = uncertainty_warnings(
+            inputs,
+            b.measurand,
+            self.value,
+            self.expanded_uncertainty,
+            b.positive_measurand,
+            b.sign_bound,
+            b.unit,
+        )
+        return b.estimate_warnings + tuple(notes)

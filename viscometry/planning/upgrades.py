@@ -1,0 +1,631 @@
+"""Which upgrade? Candidates with their costs, evaluated alone and in every combination.
+
+Core layer: pure functions on an immutable :class:`~viscometry.gum.Budget`. Every measurand
+number is in ``budget.unit``, every input number in that input's own unit; SI inside.
+
+Changing only standard uncertainties leaves the estimates, hence the sensitivity
+coefficients cᵢ = ∂f/∂xᵢ, unchanged (JCGM 100:2008, 5.1.3). The gradient is computed once
+and u_c, ν_eff, k and U of every candidate set come from one call of the propagation kernel
+(:func:`viscometry.gum.propagation.propagate`) on columns — the function every budget
+evaluation uses. A candidate that replaces an estimate is checked like any budget (a radius
+of zero is refused) and the model and its gradient are evaluated once per set, in one
+vectorised call.
+"""
+
+from __future__ import annotations
+
+import math
+import types
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, replace
+from typing import Any, Literal
+
+import numpy as np
+
+from viscometry import units as _units
+from viscometry._checks import finite as _number
+from viscometry.errors import InputError, ViscometryError
+from viscometry.gum.budget import Budget, BudgetResult
+from viscometry.gum.inputs import InputQuantity
+from viscometry.gum.propagation import propagate
+
+__all__ = [
+    "TARGET_TOLERANCE",
+    "MAX_CANDIDATES",
+    "Change",
+    "UpgradeCandidate",
+    "UpgradeOption",
+    "UpgradePlan",
+    "apply_candidates",
+    "cheapest_reaching",
+    "evaluate_upgrades",
+    "frontier",
+]
+
+#: Relative allowance when comparing U with a target (round-off only): U ≤ target·(1 + tol).
+TARGET_TOLERANCE = 1e-12
+#: Most candidates a plan takes (a greedy search above ``max_exhaustive``).
+MAX_CANDIDATES = 200
+
+Change = float | InputQuantity
+Search = Literal["exhaustive", "greedy"]
+
+
+@dataclass(frozen=True, eq=False)
+class UpgradeCandidate:
+    """One possible improvement of the budget (a new instrument, a re-certification...).
+
+    Parameters
+    ----------
+    name : str
+        Short unique label, e.g. ``"bath thermometer 2 mK"``.
+    cost : float
+        What the upgrade costs, ≥ 0, in the user's currency (never converted). [currency]
+    changes : mapping of str to float or InputQuantity
+        Input name → the new standard uncertainty in the input's own unit (estimate,
+        distribution and degrees of freedom stay, as :meth:`InputQuantity.with_uncertainty`),
+        or a complete replacement :class:`InputQuantity` of the same name.
+    description : str
+        Free text (what is bought, from whom, lead time...).
+
+    Raises
+    ------
+    InputError
+        Empty name, negative or non-numeric cost, no changes, a negative uncertainty, or a
+        replacement whose name differs from its key.
+
+    Examples
+    --------
+    >>> c = UpgradeCandidate("new timer", 300.0, {"t": 0.01})
+    >>> dict(c.changes), c.cost
+    ({'t': 0.01}, 300.0)
+    """
+
+    name: str
+    cost: float
+    changes: Mapping[str, Change]
+    description: str = ""
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.name, str) or not self.name.strip():
+            raise InputError(
+                f"upgrade candidate name must be a non-empty string, got {self.name!r}"
+            )
+        cost = _number(self.cost, f"candidate {self.name!r} cost")
+        if cost < 0:
+            raise InputError(f"candidate {self.name!r} cost must be ≥ 0, got {cost!r}")
+        object.__setattr__(self, "cost", cost)
+        if not isinstance(self.changes, Mapping) or not self.changes:
+            raise InputError(
+                f"candidate {self.name!r} changes must be a non-empty mapping of input name to "
+                f"new standard uncertainty or InputQuantity, got {self.changes!r}"
+            )
+        clean: dict[str, Change] = {}
+        for key, change in self.changes.items():
+            if not isinstance(key, str):
+                raise InputError(
+                    f"candidate {self.name!r}: input name must be a string, got {key!r}"
+                )
+            if isinstance(change, InputQuantity):
+                if change.name != key:
+                    raise InputError(
+                        f"candidate {self.name!r}: replacement for {key!r} is named {change.name!r}"
+                    )
+                clean[key] = change
+            else:
+                u = _number(change, f"candidate {self.name!r} new u({key})")
+                if u < 0:
+                    raise InputError(f"candidate {self.name!r} new u({key}) must be ≥ 0, got {u!r}")
+                clean[key] = u
+        object.__setattr__(self, "changes", types.MappingProxyType(clean))
+        if not isinstance(self.description, str):
+            raise InputError(
+                f"candidate {self.name!r} description must be a string, got {self.description!r}"
+            )
+
+    def new_uncertainty(self, name: str) -> float:
+        """The standard uncertainty this candidate gives input ``name`` (its own unit)."""
+        change = self.changes[name]
+        return change.standard_uncertainty if isinstance(change, InputQuantity) else float(change)
+
+
+@dataclass(frozen=True)
+class UpgradeOption:
+    """One set of candidates applied together, evaluated (measurand numbers in budget.unit).
+
+    Attributes
+    ----------
+    candidates : tuple of str
+        Names of the candidates in the set, in the order given (``()`` is the baseline).
+    cost : float
+        Sum of their costs. [currency]
+    value : float
+        Estimate y (changes only when a candidate replaces an estimate). [measurand unit]
+    standard_uncertainty : float
+        u_c(y). [measurand unit]
+    effective_dof : float
+        ν_eff before truncation. [1]
+    coverage_factor : float
+        k. [1]
+    expanded_uncertainty : float
+        U = k u_c. [measurand unit]
+    reduction : float
+        U_baseline − U (negative when the set makes things worse). [measurand unit]
+    reduction_per_cost : float
+        reduction / cost; for a free set ±inf (or 0 for no reduction). [measurand unit per currency]
+    dominant : str
+        Input with the largest variance share after the change.
+    reaches_target : bool or None
+        U ≤ target (None without a target).
+    """
+
+    candidates: tuple[str, ...]
+    cost: float
+    value: float
+    standard_uncertainty: float
+    effective_dof: float
+    coverage_factor: float
+    expanded_uncertainty: float
+    reduction: float
+    reduction_per_cost: float
+    dominant: str
+    reaches_target: bool | None
+
+    @property
+    def relative_expanded_uncertainty(self) -> float:
+        """U/|y| (NaN for y = 0)."""
+        return self.expanded_uncertainty / abs(self.value) if self.value != 0 else math.nan
+
+    @property
+    def label(self) -> str:
+        """The candidate names joined with " + ", or "(baseline)"."""
+        return " + ".join(self.candidates) if self.candidates else "(baseline)"
+
+    def reaches(self, target: float | None) -> bool | None:
+        """U ≤ target·(1 + :data:`TARGET_TOLERANCE`), or None without a target."""
+        return (
+            None if target is None else self.expanded_uncertainty <= target * (1 + TARGET_TOLERANCE)
+        )
+
+
+def _rank(o: UpgradeOption) -> tuple[float, float, int]:
+    return (o.expanded_uncertainty, o.cost, len(o.candidates))
+
+
+def cheapest_reaching(options: Iterable[UpgradeOption], target: float) -> UpgradeOption | None:
+    """The cheapest option with U ≤ target (ties: the larger reduction, then fewer
+    candidates); None when none reaches it. Round-off allowance :data:`TARGET_TOLERANCE`."""
+    reaching = [o for o in options if o.reaches(target)]
+    if not reaching:
+        return None
+    return min(reaching, key=lambda o: (o.cost, -o.reduction, len(o.candidates)))
+
+
+def frontier(options: Iterable[UpgradeOption]) -> tuple[UpgradeOption, ...]:
+    """The cost–U frontier: the sets that no other set beats (none cheaper or as cheap with a
+    smaller or equal U), ordered by cost. A set that adds a candidate without lowering U for
+    more money is never on it.
+
+    Examples
+    --------
+    >>> def o(c, u):
+    ...     return UpgradeOption((), c, 1.0, u, math.inf, 2.0, 2 * u, 0.0, 0.0, "a", None)
+    >>> [(x.cost, x.standard_uncertainty) for x in frontier([o(0, 5), o(10, 3), o(20, 3), o(15, 4)])]
+    [(0, 5), (10, 3)]
+    """
+    best: list[UpgradeOption] = []
+    for opt in sorted(options, key=lambda o: (o.cost, o.expanded_uncertainty, len(o.candidates))):
+        if not best or opt.expanded_uncertainty < best[-1].expanded_uncertainty * (
+            1 - TARGET_TOLERANCE
+        ):
+            best.append(opt)
+    return tuple(best)
+
+
+@dataclass(frozen=True)
+class UpgradePlan:
+    """Result of :func:`evaluate_upgrades` (immutable).
+
+    Attributes
+    ----------
+    baseline : BudgetResult
+        The budget as it stands (its warnings are the plan's).
+    candidates : tuple of UpgradeCandidate
+    options : tuple of UpgradeOption
+        Every set evaluated (all 2ⁿ subsets when exhaustive, baseline included).
+    search : {"exhaustive", "greedy"}
+    target : float or None
+        Target U in the measurand unit.
+    cheapest : UpgradeOption or None
+        Cheapest set reaching the target (:func:`cheapest_reaching`); None without a target
+        or when no evaluated set reaches it.
+    greedy_path : tuple of UpgradeOption
+        The sets chosen step by step by the greedy search (empty when exhaustive).
+    warnings : tuple of str
+        The baseline's warnings and those of every budget a candidate's new estimates make.
+    """
+
+    baseline: BudgetResult
+    candidates: tuple[UpgradeCandidate, ...]
+    options: tuple[UpgradeOption, ...]
+    search: Search
+    target: float | None
+    cheapest: UpgradeOption | None
+    greedy_path: tuple[UpgradeOption, ...] = ()
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def unit(self) -> str:
+        return self.baseline.unit
+
+    @property
+    def singles(self) -> tuple[UpgradeOption, ...]:
+        """The options with exactly one candidate, in candidate order."""
+        by = {o.candidates: o for o in self.options if len(o.candidates) == 1}
+        return tuple(by[(c.name,)] for c in self.candidates if (c.name,) in by)
+
+    @property
+    def best_per_cost(self) -> UpgradeOption | None:
+        """The single candidate with the largest reduction of U per unit cost (None if none helps)."""
+        helpful = [o for o in self.singles if o.reduction > 0]
+        if not helpful:
+            return None
+        return max(helpful, key=lambda o: (o.reduction_per_cost, o.reduction))
+
+    @property
+    def best(self) -> UpgradeOption:
+        """The set with the smallest U (ties: the cheaper)."""
+        return min(self.options, key=_rank)
+
+    @property
+    def ranked(self) -> tuple[UpgradeOption, ...]:
+        """Every evaluated set, by U, then cost, then number of candidates."""
+        return tuple(sorted(self.options, key=_rank))
+
+    @property
+    def frontier(self) -> tuple[UpgradeOption, ...]:
+        """The cost–U frontier of the evaluated sets (:func:`frontier`)."""
+        return frontier(self.options)
+
+    def option(self, names: Iterable[str]) -> UpgradeOption:
+        """The evaluated option for a set of candidate names (order does not matter); a set a
+        greedy search did not visit is evaluated now (same combination rule)."""
+        wanted = set(names)
+        unknown = wanted - {c.name for c in self.candidates}
+        if unknown:
+            raise InputError(f"no candidate named {sorted(unknown)[0]!r} (candidates: "
+                             f"{', '.join(c.name for c in self.candidates)})")  # fmt: skip
+        for o in self.options:
+            if set(o.candidates) == wanted:
+                return o
+        masks = np.array([[c.name in wanted for c in self.candidates]])
+        base = self.baseline
+        return _evaluate(
+            base.budget, self.candidates, masks, self.target, base.expanded_uncertainty
+        )[0]
+
+    def with_target(self, target: float | None) -> UpgradePlan:
+        """The same plan judged against another target (no re-evaluation)."""
+        if target is not None:
+            target = _positive_target(target)
+        options = tuple(replace(o, reaches_target=o.reaches(target)) for o in self.options)
+        cheapest = cheapest_reaching(options, target) if target is not None else None
+        return replace(self, options=options, target=target, cheapest=cheapest)
+
+    def budget_for(self, names: Iterable[str]) -> Budget:
+        """The new :class:`Budget` after applying the named candidates (for a full evaluation)."""
+        return apply_candidates(self.baseline.budget, self.candidates, names)
+
+    def table(self) -> Any:
+        """All evaluated sets as a DataFrame of numbers (snake_case columns), ranked by U."""
+        import pandas as pd
+
+        rows = [
+            {
+                "candidates": o.label, "count": len(o.candidates), "cost": o.cost,
+                "expanded_uncertainty": o.expanded_uncertainty,
+                "relative_expanded_uncertainty": o.relative_expanded_uncertainty,
+                "standard_uncertainty": o.standard_uncertainty,
+                "coverage_factor": o.coverage_factor, "effective_dof": o.effective_dof,
+                "reduction": o.reduction, "reduction_per_cost": o.reduction_per_cost,
+                "dominant": o.dominant, "reaches_target": o.reaches_target,
+            }
+            for o in self.ranked
+        ]  # fmt: skip
+        df = pd.DataFrame(rows)
+        return df.drop(columns=["reaches_target"]) if self.target is None else df
+
+
+# =============================================================================== building
+def _positive_target(target: object) -> float:
+    t = _number(target, "target")
+    if t <= 0:
+        raise InputError(f"target expanded uncertainty must be positive, got {t!r}")
+    return t
+
+
+def _check_candidates(candidates: Sequence[UpgradeCandidate], budget: Budget) -> list[str]:
+    """Refuse duplicate names, unknown inputs and replacements the budget refuses; return the
+    warnings of the budgets that a candidate's new estimates make."""
+    seen: set[str] = set()
+    notes: list[str] = []
+    for c in candidates:
+        if not isinstance(c, UpgradeCandidate):
+            raise InputError(f"candidates must be UpgradeCandidate objects, got {c!r}")
+        if c.name in seen:
+            raise InputError(f"candidate name used twice: {c.name!r}")
+        seen.add(c.name)
+        for key, change in c.changes.items():
+            if key not in budget.input_names:
+                raise InputError(
+                    f"candidate {c.name!r} changes unknown input {key!r} "
+                    f"(inputs: {', '.join(budget.input_names)})"
+                )
+            if not isinstance(change, InputQuantity):
+                continue
+            old = budget.input(key)
+            if not _units.same_dimension(change.unit, old.unit):
+                raise InputError(
+                    f"candidate {c.name!r}: replacement unit of {key!r} {change.unit!r} is not "
+                    f"of the same kind as {old.unit!r}"
+                )
+            try:
+                changed = budget.with_input(change)
+            except ViscometryError as exc:
+                raise InputError(f"candidate {c.name!r}: {exc}") from None
+            notes += [
+                f"with candidate {c.name!r}: {w}"
+                for w in changed.estimate_warnings
+                if w not in budget.estimate_warnings
+            ]
+    return notes
+
+
+def apply_candidates(
+    budget: Budget, candidates: Sequence[UpgradeCandidate], names: Iterable[str]
+) -> Budget:
+    """The budget after applying the named candidates (same combination rule as the planner).
+
+    When several candidates in the set change the same input, the change giving the smallest
+    standard uncertainty (compared in SI) wins; ties go to the candidate listed first.
+    """
+    wanted = set(names)
+    by_name = {c.name: c for c in candidates}
+    for n in wanted:
+        if n not in by_name:
+            raise InputError(f"no candidate named {n!r} (candidates: {', '.join(by_name)})")
+    best: dict[str, tuple[float, Change]] = {}
+    for c in candidates:
+        if c.name not in wanted:
+            continue
+        for key, change in c.changes.items():
+            unit = change.unit if isinstance(change, InputQuantity) else budget.input(key).unit
+            u_si = c.new_uncertainty(key) * _units.si_conversion(unit)[0]
+            if key not in best or u_si < best[key][0]:
+                best[key] = (u_si, change)
+    out = budget
+    for key, (_u, change) in best.items():
+        if isinstance(change, InputQuantity):
+            out = out.with_input(change)
+        else:
+            out = out.with_uncertainty(key, change)
+    return out
+
+
+def _per_input(candidates: Sequence[UpgradeCandidate], budget: Budget) -> list[np.ndarray]:
+    """Per input: rows (candidate index, u_SI, x_SI, dof) of each candidate touching it."""
+    x0, _u, _nu, _c = budget.si_arrays()
+    index = {n: i for i, n in enumerate(budget.input_names)}
+    rows: list[list[tuple[float, float, float, float]]] = [[] for _ in budget.inputs]
+    for j, c in enumerate(candidates):
+        for key, change in c.changes.items():
+            i = index[key]
+            if isinstance(change, InputQuantity):
+                s, o = _units.si_conversion(change.unit)
+                rows[i].append(
+                    (j, change.standard_uncertainty * s, change.value * s + o, change.dof)
+                )
+            else:
+                s = budget.input_scales[i]
+                rows[i].append((j, float(change) * s, x0[i], budget.inputs[i].dof))
+    return [np.array(r, dtype=float).reshape(-1, 4) for r in rows]
+
+
+def _evaluate(
+    budget: Budget,
+    candidates: Sequence[UpgradeCandidate],
+    masks: np.ndarray,
+    target: float | None,
+    u_base: float,
+) -> tuple[UpgradeOption, ...]:
+    """Evaluate many candidate sets (boolean masks, shape (S, n)) in one vectorised pass."""
+    x0, u0, nu0, const = budget.si_arrays()
+    n_sets = masks.shape[0]
+    x, u, nu = (np.repeat(a[:, None], n_sets, axis=1) for a in (x0, u0, nu0))
+    for i, opts in enumerate(_per_input(candidates, budget)):
+        if not len(opts):
+            continue
+        included = masks[:, opts[:, 0].astype(int)]  # (S, m)
+        win = np.argmin(np.where(included, opts[None, :, 1], np.inf), axis=1)  # ties: first
+        on = included.any(axis=1)
+        u[i], x[i], nu[i] = (
+            np.where(on, opts[win, col], base[i]) for col, base in ((1, u0), (2, x0), (3, nu0))
+        )
+    comp = budget.compiled
+    if np.any(x != x0[:, None]):  # estimates differ between sets: value and gradient per set
+        y = np.broadcast_to(comp.value(*x, *const), (n_sets,))
+        grad = comp.gradient(*x, *const)
+        bad = ~np.isfinite(grad).all(axis=0) | ~np.isfinite(y)
+        if np.any(bad):
+            s = int(np.argmax(bad))
+            names = [c.name for c, m in zip(candidates, masks[s], strict=True) if m]
+            raise InputError(f"the model is not finite after applying {names}")
+    else:  # sensitivities are those of the baseline (JCGM 100:2008, 5.1.3)
+        y = np.full(n_sets, float(comp.value(*x0, *const)))
+        grad = np.repeat(comp.gradient(*x0, *const)[:, None], n_sets, axis=1)
+    prop = propagate(
+        grad, u, nu, budget.correlation_matrix,
+        coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
+    )  # fmt: skip
+    return _options(budget, candidates, masks, prop, y, target, u_base)
+
+
+def _options(budget, candidates, masks, prop, y_si, target, u_base) -> tuple[UpgradeOption, ...]:  # type: ignore[no-untyped-def]
+    out_s, out_o = budget.output_scale, budget.output_offset
+    names = [c.name for c in candidates]
+    cost = masks.astype(float) @ np.array([c.cost for c in candidates])
+    big_u = prop.expanded_uncertainty / out_s
+    reduction = u_base - big_u
+    with np.errstate(divide="ignore", invalid="ignore"):
+        per_cost = np.where(
+            cost > 0, reduction / np.where(cost > 0, cost, 1.0), np.sign(reduction) * np.inf
+        )
+    per_cost = np.where((cost == 0) & (reduction == 0), 0.0, per_cost)
+    dom = np.argmax(np.abs(prop.contributions), axis=0)
+    opts = (
+        UpgradeOption(
+            candidates=tuple(nm for nm, m in zip(names, masks[s], strict=True) if m),
+            cost=float(cost[s]),
+            value=float((y_si[s] - out_o) / out_s),
+            standard_uncertainty=float(prop.standard_uncertainty[s] / out_s),
+            effective_dof=float(prop.effective_dof[s]),
+            coverage_factor=float(prop.coverage_factor[s]),
+            expanded_uncertainty=float(big_u[s]),
+            reduction=float(reduction[s]),
+            reduction_per_cost=float(per_cost[s]),
+            dominant=budget.input_names[int(dom[s])],
+            reaches_target=None,
+        )  # fmt: skip
+        for s in range(masks.shape[0])
+    )
+    return tuple(replace(o, reaches_target=o.reaches(target)) for o in opts)
+
+
+def _check_search(candidates: Sequence[UpgradeCandidate], max_exhaustive: int) -> None:
+    if not candidates:
+        raise InputError("evaluate_upgrades needs at least one upgrade candidate")
+    if len(candidates) > MAX_CANDIDATES:
+        raise InputError(f"at most {MAX_CANDIDATES} upgrade candidates, got {len(candidates)}")
+    if (
+        isinstance(max_exhaustive, bool)
+        or not isinstance(max_exhaustive, int)
+        or max_exhaustive < 0
+    ):
+        raise InputError(f"max_exhaustive must be a non-negative integer, got {max_exhaustive!r}")
+    if max_exhaustive > 20:
+        raise InputError(
+            f"max_exhaustive above 20 would evaluate over a million sets, got {max_exhaustive}"
+        )
+
+
+def evaluate_upgrades(
+    budget: Budget,
+    candidates: Sequence[UpgradeCandidate],
+    target: float | None = None,
+    max_exhaustive: int = 12,
+) -> UpgradePlan:
+    """Evaluate upgrade candidates alone and in combination, ranked by the new U.
+
+    Parameters
+    ----------
+    budget : Budget
+        The budget as it stands.
+    candidates : sequence of UpgradeCandidate
+        Unique names; every changed input must exist in the budget.
+    target : float or None
+        Target expanded uncertainty U in the measurand unit, > 0. [measurand unit]
+    max_exhaustive : int
+        Up to this many candidates every subset (2ⁿ, 4096 for 12) is evaluated; above it the
+        greedy search of the Notes is used.
+
+    Returns
+    -------
+    UpgradePlan
+
+    Raises
+    ------
+    InputError
+        Duplicate or unknown names, a replacement the budget refuses (a radius of zero...), a
+        non-positive target, an empty candidate list.
+
+    Notes
+    -----
+    For each set the standard uncertainties (and, for replacements, estimates and dofs) are
+    changed and u_c² = Σᵢⱼ cᵢcⱼu(xᵢ)u(xⱼ)r(xᵢ,xⱼ) (JCGM 100:2008, eq. 16), ν_eff
+    (eq. G.2b), k = t_p(ν_eff truncated, G.6.4) or the fixed k, and U = k u_c are computed
+    for all sets at once by the propagation kernel.
+
+    *Combination rule*: when several candidates in a set change the same input, the change
+    with the smallest standard uncertainty (compared in SI) is applied — one would use the
+    better of two instruments — and ties go to the candidate listed first.
+
+    *Greedy search* (more than ``max_exhaustive`` candidates): from the baseline, add at each
+    step the remaining candidate with the largest reduction of U per unit cost (a free
+    candidate that reduces U counts as infinitely good; ties: the larger reduction); stop when
+    none reduces U. Every set tried is kept; the cheapest set reaching a target is searched
+    among them and may not be the true optimum.
+
+    References
+    ----------
+    JCGM 100:2008 (GUM), 5.1.2, 5.2.2, G.4.1, G.6.4.
+
+    Examples
+    --------
+    >>> from viscometry.gum import Budget, InputQuantity
+    >>> b = Budget.from_formula("y", "a + b", [InputQuantity.normal("a", 1.0, 3.0),
+    ...                                        InputQuantity.normal("b", 1.0, 4.0)],
+    ...                         coverage_factor=2.0)
+    >>> plan = evaluate_upgrades(b, [UpgradeCandidate("better b", 10.0, {"b": 0.0})], target=7.0)
+    >>> plan.cheapest.label, float(plan.cheapest.expanded_uncertainty), plan.cheapest.reduction_per_cost
+    ('better b', 6.0, 0.4)
+    """
+    candidates = tuple(candidates)
+    _check_search(candidates, max_exhaustive)
+    notes = _check_candidates(candidates, budget)
+    if target is not None:
+        target = _positive_target(target)
+    baseline = budget.evaluate()
+    n = len(candidates)
+    path: tuple[UpgradeOption, ...] = ()
+    if n <= max_exhaustive:
+        search: Search = "exhaustive"
+        idx = np.arange(2**n)
+        masks = ((idx[:, None] >> np.arange(n)[None, :]) & 1).astype(bool)
+        options = _evaluate(budget, candidates, masks, target, baseline.expanded_uncertainty)
+    else:
+        search = "greedy"
+        options, path = _greedy(budget, candidates, target, baseline.expanded_uncertainty)
+    plan = UpgradePlan(baseline, candidates, options, search, target, None, path,
+                       baseline.warnings + tuple(notes))  # fmt: skip
+    return plan.with_target(target)
+
+
+def _greedy(
+    budget: Budget, candidates: Sequence[UpgradeCandidate], target: float | None, u_base: float
+) -> tuple[tuple[UpgradeOption, ...], tuple[UpgradeOption, ...]]:
+    n = len(candidates)
+    costs = np.array([c.cost for c in candidates])
+    current = np.zeros(n, dtype=bool)
+    start = _evaluate(budget, candidates, current[None, :], target, u_base)[0]
+    seen: dict[tuple[bool, ...], UpgradeOption] = {tuple(current): start}
+    current_u = start.expanded_uncertainty
+    path: list[UpgradeOption] = []
+    while not current.all():
+        remaining = np.flatnonzero(~current)
+        masks = np.repeat(current[None, :], len(remaining), axis=0)
+        masks[np.arange(len(remaining)), remaining] = True
+        step = _evaluate(budget, candidates, masks, target, u_base)
+        for m, o in zip(masks, step, strict=True):
+            seen.setdefault(tuple(m), o)
+        gain = current_u - np.array([o.expanded_uncertainty for o in step])
+        if not np.any(gain > 0):
+            break
+        c = costs[remaining]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            per_cost = np.where(c > 0, gain / np.where(c > 0, c, 1.0), np.inf)
+        per_cost = np.where(gain > 0, per_cost, -np.inf)
+        pick = int(np.lexsort((-gain, -per_cost))[0])  # primary: per cost; ties: larger gain
+        current = masks[pick].copy()
+        current_u = step[pick].expanded_uncertainty
+        path.append(step[pick])
+    return tuple(seen.values()), tuple(path)
