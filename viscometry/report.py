@@ -30,7 +30,7 @@ import math
 import os
 import re
 from pathlib import Path
-from typing import TYPE_CHECKING, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 from viscometry.errors import InputError
 from viscometry.text import (
@@ -55,6 +55,7 @@ __all__ = [
     "latex_escape",
     "markdown_escape",
     "render_report",
+    "write_audit_report",
     "write_report",
 ]
 
@@ -713,4 +714,62 @@ def write_report(
     except OSError as exc:
         raise InputError(
             f"report path {str(target)!r}: cannot write the file: {exc.strerror or exc}"
+        ) from None
+
+
+def write_audit_report(
+    verdicts: Any, folder: str | os.PathLike[str], *, relative_to: Any = None
+) -> list[Path]:
+    """Write an audit's record into ``folder`` (created if missing): ``audit.html`` (the table
+    with each verdict in words and colour, the summary, the software version and the cautions)
+    and ``audit.csv`` (the same table), each written atomically.
+
+    Parameters
+    ----------
+    verdicts : sequence of AuditVerdict
+        From :func:`viscometry.audit.audit_paths`.
+    folder : path-like
+        Where the auditor keeps the record.
+    relative_to : path-like, optional
+        Show file names relative to this folder.
+
+    Returns
+    -------
+    list of pathlib.Path
+        The files written.
+
+    Raises
+    ------
+    InputError
+        When the folder cannot be made or written (the message names it).
+    """
+    from viscometry.audit import audit_table
+    from viscometry.io.atomic import atomic_write_text
+    from viscometry.text import audit_summary, audit_table_html
+
+    table = audit_table(verdicts, relative_to=relative_to)
+    counts = table["verdict"].value_counts().to_dict()
+    e = html.escape
+    page = "\n".join([
+        "<!DOCTYPE html>", '<html lang="en">', '<head><meta charset="utf-8">',
+        '<meta http-equiv="Content-Security-Policy" '
+        "content=\"default-src 'none'; style-src 'unsafe-inline'\">",
+        "<title>Audit of budget files</title>", f"<style>{_CSS}</style></head><body>",
+        "<h1>Audit of budget files</h1>", f'<p class="statement">{e(audit_summary(counts))}</p>',
+        audit_table_html(table),
+        f"<p>Recomputed with viscometry {e(_version())}; values and expanded uncertainties "
+        "compared after the rounding of the result statement (JCGM 100:2008, 7.2.6), "
+        "fingerprints of the budgets compared exactly.</p>",
+        "<footer>", *(f"<p>{e(t)}</p>" for t in CAUTIONS), "</footer></body></html>", "",
+    ])  # fmt: skip
+    target = Path(folder)
+    try:
+        target.mkdir(parents=True, exist_ok=True)
+        return [
+            atomic_write_text(target / "audit.html", page),
+            atomic_write_text(target / "audit.csv", table.to_csv(index=False)),
+        ]
+    except OSError as exc:
+        raise InputError(
+            f"audit report folder {str(target)!r}: cannot write: {exc.strerror or exc}"
         ) from None

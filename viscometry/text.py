@@ -36,6 +36,9 @@ if TYPE_CHECKING:  # pragma: no cover
     from viscometry.proficiency import Score
 
 __all__ = [
+    "VERDICT_WORDS",
+    "audit_summary",
+    "audit_table_html",
     "DOF_NOTE",
     "DOF_SHOWN_AS_INFINITE",
     "HEADERS",
@@ -552,3 +555,47 @@ def score_statement(score: Score) -> str:
         if abs(float(shown)) == t and a != t:
             note = f" (|{sym}| just {'above' if a > t else 'below'} {t:g})"
     return f"{sym} = {shown}{note}: {label}, since {why}."
+
+
+# ----------------------------------------------------------------------------- audits
+#: Each audit verdict in words, and the colour it is shown in.
+VERDICT_WORDS = {
+    "match": ("recorded result confirmed", "#060"),
+    "differs": ("differs from the record", "#a00"),
+    "unrecorded": ("nothing recorded to compare with", "#a60"),
+    "error": ("cannot be read or evaluated", "#a00"),
+}
+
+
+def audit_summary(counts: dict[str, int]) -> str:
+    """One line for a whole audit, e.g. ``'audit PASSED: 20 budget files, 20 recorded results
+    confirmed, 0 problems'`` (a file that differs or cannot be evaluated is a problem)."""
+    problems = counts.get("differs", 0) + counts.get("error", 0)
+    total = sum(counts.values())
+    return (
+        f"audit {'PASSED' if problems == 0 else 'FAILED'}: {total} budget file(s), "
+        f"{counts.get('match', 0)} recorded result(s) confirmed, "
+        f"{counts.get('unrecorded', 0)} unrecorded, {problems} problem(s)"
+    )
+
+
+def audit_table_html(table: object) -> str:
+    """The audit table (:func:`viscometry.audit.audit_table`) as HTML, each verdict in words and
+    colour. Every cell is escaped."""
+    e = html.escape
+    columns = list(table.columns)  # type: ignore[attr-defined]
+    head = "".join(f"<th>{e(str(c))}</th>" for c in columns)
+    rows = []
+    for rec in table.to_dict(orient="records"):  # type: ignore[attr-defined]
+        words, colour = VERDICT_WORDS.get(rec["verdict"], (rec["verdict"], "#000"))
+        cells = []
+        for c in columns:
+            text = e(str(rec[c]))
+            if c == "verdict":
+                text = f"<b style='color:{colour}'>{e(rec['verdict'].upper())}</b> — {e(words)}"
+            cells.append(f"<td>{text}</td>")
+        rows.append("<tr>" + "".join(cells) + "</tr>")
+    return (
+        "<div style='overflow-x:auto'><table class='viscometry-audit'><thead><tr>"
+        f"{head}</tr></thead><tbody>{''.join(rows)}</tbody></table></div>"
+    )

@@ -487,8 +487,16 @@ class Budget:
         return replace(self, inputs=new)
 
     def with_uncertainty(self, name: str, standard_uncertainty: float) -> Budget:
-        """A new budget where ``name`` has another standard uncertainty (its own unit)."""
-        return self.with_input(self.input(name).with_uncertainty(standard_uncertainty))
+        """A new budget where ``name`` has another standard uncertainty (its own unit).
+
+        What depends on the estimates only (the validity checks, the inputs that keep their
+        sign) is carried over, not computed again.
+        """
+        new = self.with_input(self.input(name).with_uncertainty(standard_uncertainty))
+        for key in _ESTIMATE_CACHES:
+            if key in self.__dict__:
+                new.__dict__[key] = self.__dict__[key]
+        return new
 
     def with_settings(self, **changes: Any) -> Budget:
         """A new budget with other settings (coverage_probability, coverage_factor, title,
@@ -616,6 +624,10 @@ class Budget:
             sensitivities=frozen_array(grad * scale_in / self.output_scale),
             uncertainties=frozen_array([q.standard_uncertainty for q in self.inputs]),
         )
+
+
+#: Cached properties of a budget that depend on its estimates, model and checks only.
+_ESTIMATE_CACHES = ("sign_bound", "estimate_warnings", "positive_measurand")
 
 
 def _context(

@@ -24,7 +24,6 @@ constructor               standard uncertainty                       reference
 from __future__ import annotations
 
 import contextvars
-import functools
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
@@ -32,11 +31,11 @@ from types import MappingProxyType
 from typing import Literal
 
 import numpy as np
-from scipy import special
 
 from viscometry._checks import finite as _finite
 from viscometry._checks import positive as _positive
 from viscometry.errors import InputError
+from viscometry.gum.propagation import t_quantile
 
 __all__ = [
     "Distribution",
@@ -746,12 +745,8 @@ def coverage_factor_for(coverage_probability: float, dof: float = math.inf) -> f
     return _coverage_factor(_probability(coverage_probability), _dof(dof))
 
 
-@functools.lru_cache(maxsize=4096)
 def _coverage_factor(p: float, nu: float) -> float:
-    q = 0.5 * (1.0 + p)
-    if math.isinf(nu):
-        return float(special.ndtri(q))
-    return float(special.stdtrit(nu, q))
+    return t_quantile(p, nu)
 
 
 def _readings(name: str, readings: Sequence[float], minimum: int = 2) -> np.ndarray:

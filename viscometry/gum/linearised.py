@@ -13,8 +13,8 @@ from __future__ import annotations
 
 import functools
 import math
-from dataclasses import dataclass, replace
-from typing import TYPE_CHECKING
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 
@@ -70,20 +70,30 @@ class LinearisedBudget:
         """A copy where input ``name`` has another standard uncertainty (its own unit)."""
         return self.with_uncertainties({name: standard_uncertainty})
 
+    @functools.cached_property
+    def _index(self) -> dict[str, int]:
+        return {n: i for i, n in enumerate(self.budget.input_names)}
+
     def with_uncertainties(self, changes: dict[str, float]) -> LinearisedBudget:
         """A copy with several standard uncertainties changed (each ≥ 0, own unit)."""
         u = self.uncertainties.copy()
+        index = self._index
         for name, value in changes.items():
-            try:
-                i = self.names.index(name)
-            except ValueError:
-                raise InputError(
-                    f"no input named {name!r} (inputs: {', '.join(self.names)})"
-                ) from None
+            i = index.get(name)
+            if i is None:
+                raise InputError(f"no input named {name!r} (inputs: {', '.join(self.names)})")
             if not (math.isfinite(value) and value >= 0):
                 raise InputError(f"{name}.standard_uncertainty must be non-negative, got {value!r}")
             u[i] = value
-        return replace(self, uncertainties=frozen_array(u))
+        u.setflags(write=False)
+        # A shallow copy that keeps what does not depend on u (the dofs, the name index)
+        # and drops the cached propagation: faster than dataclasses.replace for a slider.
+        new = object.__new__(LinearisedBudget)
+        new.__dict__.update(
+            budget=self.budget, value=self.value, sensitivities=self.sensitivities,
+            dofs=self.dofs, _index=index, uncertainties=u,
+        )  # fmt: skip
+        return new
 
     @functools.cached_property
     def _propagation(self) -> Propagation:
@@ -128,16 +138,23 @@ class LinearisedBudget:
     def warnings(self) -> tuple[str, ...]:
         """The budget's estimate warnings and the plausibility warnings of these u(xᵢ)."""
         b = self.budget
-        inputs = [
-            q.with_uncertainty(float(u)) for q, u in zip(b.inputs, self.uncertainties, strict=True)
+        bound = set(b.sign_bound)
+        rows = [
+            _Row(q.name, q.value, q.unit, float(u))
+            for q, u in zip(b.inputs, self.uncertainties, strict=True)
+            if q.name in bound
         ]
         notes = uncertainty_warnings(
-            inputs,
-            b.measurand,
-            self.value,
-            self.expanded_uncertainty,
-            b.positive_measurand,
-            b.sign_bound,
-            b.unit,
-        )
+            rows, b.measurand, self.value, self.expanded_uncertainty, b.positive_measurand,
+            b.sign_bound, b.unit,
+        )  # fmt: skip
         return b.estimate_warnings + tuple(notes)
+
+
+class _Row(NamedTuple):
+    """What a plausibility check needs of an input (no InputQuantity is rebuilt)."""
+
+    name: str
+    value: float
+    unit: str
+    standard_uncertainty: float

@@ -11,9 +11,10 @@ JCGM 100:2008 (GUM), 5.1.2 (eq. 10), 5.2.2 (eq. 13/16), G.4.1 (eq. G.2b), G.6.4.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 from scipy import special
@@ -32,6 +33,7 @@ __all__ = [
     "coverage_probabilities",
     "higher_order_variance",
     "propagate",
+    "t_quantile",
     "truncate_dof",
     "truncate_dofs",
     "validate_correlation",
@@ -218,12 +220,11 @@ def truncate_dofs(effective_dofs: np.ndarray | float) -> np.ndarray:
     return np.where(finite, np.maximum(1.0, np.floor(np.where(finite, nu, 1.0) + 1e-9)), np.inf)
 
 
-@dataclass(frozen=True)
-class Propagation:
-    """What the law of propagation gives for one budget (0-d arrays) or many (1-d arrays).
+class Propagation(NamedTuple):
+    """What the law of propagation gives for one budget (floats) or many (1-d arrays).
 
-    Every array but ``contributions`` has the shape of the cases (``()`` for one budget,
-    ``(M,)`` for M budgets); ``contributions`` has the inputs on its first axis. Units are
+    For one budget every field but ``contributions`` is a float; for M budgets an array of
+    shape ``(M,)``. ``contributions`` has the inputs on its first axis. Units are
     those of the sensitivities times the uncertainties (the caller's choice, SI inside the
     engine).
 
@@ -316,6 +317,11 @@ def propagate(
     """
     c = np.asarray(sensitivities, dtype=float)
     u = np.asarray(uncertainties, dtype=float)
+    if c.ndim == 1 and u.ndim == 1 and isinstance(extra_variance, float | int):
+        return _propagate_one(
+            c, u, np.asarray(dofs, dtype=float), correlation, coverage_probability,
+            coverage_factor, float(extra_variance),
+        )  # fmt: skip
     with np.errstate(over="ignore", invalid="ignore"):
         cu = c * u
         var = combined_variance(c, u, correlation)
@@ -340,6 +346,77 @@ def propagate(
         coverage_factor=k, coverage_probability=p_out, fixed_k_short=short,
         expanded_uncertainty=k * uc,
     )  # fmt: skip
+
+
+def _propagate_one(
+    c: np.ndarray,
+    u: np.ndarray,
+    nu: np.ndarray,
+    correlation: np.ndarray | None,
+    coverage_probability: float,
+    coverage_factor: float | None,
+    extra_variance: float,
+) -> Propagation:
+    """:func:`propagate` for one budget, in Python floats (the slider path: microseconds).
+
+    The same formulas as the vectorised path; a product too large for a float becomes
+    ``inf`` (no exception), which the caller reports.
+    """
+    cu = [a * b for a, b in zip(c.tolist(), u.tolist(), strict=True)]
+    if correlation is None:
+        var = math.fsum(x * x for x in cu)
+    else:
+        arr = np.array(cu)
+        with np.errstate(over="ignore", invalid="ignore"):
+            var = float(arr @ correlation @ arr)
+    first_uc = math.sqrt(var) if var > 0 else 0.0
+    nu_eff = math.inf
+    if first_uc > 0:
+        denom = math.fsum(
+            x * x * x * x / n for x, n in zip(cu, nu.tolist(), strict=True) if n != math.inf
+        )
+        nu_eff = first_uc**4 / denom if denom > 0 else math.inf
+    total = var + extra_variance
+    uc = math.sqrt(total) if total > 0 else (total if math.isnan(total) else 0.0)
+    used = truncate_dof(nu_eff)
+    p = float(coverage_probability)
+    if not 0.0 < p < 1.0:
+        check_probability(coverage_probability)  # raises with the message
+    short, p_out = False, p
+    if coverage_factor is None:
+        k = t_quantile(p, used)
+    else:
+        k = float(coverage_factor)
+        delivered = _delivered(k, used)
+        short = delivered < p - FIXED_K_SHORTFALL
+        p_out = delivered if short else p
+    return Propagation(np.array(cu), var, uc, nu_eff, used, k, p_out, short, k * uc)
+
+
+@functools.lru_cache(maxsize=4096)
+def t_quantile(coverage_probability: float, dof: float) -> float:
+    """k = t_p(ν), the (1 + p)/2 quantile of Student's t (the normal one for ν = ∞), cached.
+
+    ``dof`` is used as given (any positive real); :func:`propagate` passes ν_eff already
+    truncated per G.6.4.
+
+    Examples
+    --------
+    >>> round(t_quantile(0.95, math.inf), 3), round(t_quantile(0.99, 16.0), 2)
+    (1.96, 2.92)
+    """
+    q = 0.5 * (1.0 + coverage_probability)
+    if math.isinf(dof):
+        return float(special.ndtri(q))
+    return float(special.stdtrit(dof, q))
+
+
+@functools.lru_cache(maxsize=4096)
+def _delivered(coverage_factor: float, dof: float) -> float:
+    """Two-sided coverage probability of ±k under t_ν (normal for ν = ∞), cached."""
+    if math.isinf(dof):
+        return float(2.0 * special.ndtr(coverage_factor) - 1.0)
+    return float(2.0 * special.stdtr(dof, coverage_factor) - 1.0)
 
 
 def check_probability(value: object, field: str = "coverage_probability") -> float:

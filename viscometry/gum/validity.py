@@ -24,6 +24,7 @@ import math
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import TYPE_CHECKING, Protocol, runtime_checkable
 
+import numpy as np
 import sympy as sp
 
 from viscometry import units as _units
@@ -191,20 +192,20 @@ def sign_bound_inputs(budget: Budget) -> tuple[str, ...]:
         return tuple(budget.method.positive_inputs)
     x, _u, _nu, c = budget.si_arrays()
     comp = budget.compiled
-    out = []
-    for i, name in enumerate(budget.input_names):
-        if x[i] == 0:
-            continue
-        rel = []
-        for factor in (1.0, 2.0):
-            xx = x.copy()
-            xx[i] *= factor
-            y = float(comp.value(*xx, *c))
-            g = float(comp.gradient(*xx, *c)[i])
-            rel.append(xx[i] * g / y if y != 0 else math.nan)
-        if rel[0] != 0 and math.isfinite(rel[0]) and abs(rel[1] - rel[0]) <= 1e-6 * abs(rel[0]):
-            out.append(name)
-    return tuple(out)
+    n = len(x)
+    # column j: the estimates with x_j doubled (one vectorised call for every input)
+    doubled = np.repeat(x[:, None], n, axis=1)
+    doubled[np.arange(n), np.arange(n)] *= 2.0
+    with np.errstate(all="ignore"):
+        y1, g1 = float(comp.value(*x, *c)), comp.gradient(*x, *c)
+        y2 = np.broadcast_to(comp.value(*doubled, *c), (n,))
+        g2 = np.diagonal(comp.gradient(*doubled, *c))
+        rel1 = x * g1 / y1 if y1 != 0 else np.full(n, np.nan)
+        rel2 = 2.0 * x * g2 / y2
+    same = np.isfinite(rel1) & (rel1 != 0) & (np.abs(rel2 - rel1) <= 1e-6 * np.abs(rel1))
+    return tuple(
+        name for name, keep, xi in zip(budget.input_names, same, x, strict=True) if keep and xi != 0
+    )
 
 
 def uncertainty_warnings(

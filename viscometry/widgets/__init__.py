@@ -6,14 +6,20 @@ plain pytest. Widgets only wire controls to library functions; every change buil
 immutable budgets and results.
 """
 
+from viscometry.widgets.audit_panel import AuditPanel, audit_panel
 from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
+from viscometry.widgets.builder import BudgetBuilder, budget_builder
 from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
 from viscometry.widgets.upgrade_explorer import UpgradeExplorer, upgrade_explorer
 
 __all__ = [
+    "AuditPanel",
+    "audit_panel",
+    "BudgetBuilder",
     "BudgetEditor",
     "MonteCarloPanel",
     "UpgradeExplorer",
+    "budget_builder",
     "budget_editor",
     "monte_carlo_panel",
     "upgrade_explorer",

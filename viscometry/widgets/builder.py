@@ -187,26 +187,28 @@ class BudgetBuilder:
             return self._refuse_start(str(exc))
         doc.pop("recorded", None)
         self._start(doc, f"loaded {name}")
-        self.save_path.value = str(name) if name.endswith(".toml") else self.save_path.value
         return True
 
     def start_from_method(self, name: str) -> None:
-        """Start from a built-in viscometer model: its inputs at placeholder values in SI."""
+        """Start from a built-in viscometer model, with the invented values of its example
+        budget where one is shipped (else placeholders of 1 in SI units, u = 0)."""
         from viscometry.methods import get_method
 
         method = get_method(name)
-        inputs = {
-            n: {"value": 1.0, "unit": method.input_units[n], "standard_uncertainty": 0.0}
-            for n in method.input_names
-        }
-        doc = {
-            "format": FORMAT, "title": method.title,
-            "measurand": {"name": method.output_name, "unit": method.output_unit, "method": name},
-            "inputs": inputs,
-        }  # fmt: skip
-        self._start(
-            doc, f"started from the built-in model {name}: put in your estimates and uncertainties"
+        doc = _example_document(name)
+        if doc is None:
+            inputs = {
+                n: {"value": 1.0, "unit": method.input_units[n], "standard_uncertainty": 0.0}
+                for n in method.input_names
+            }
+            m = {"name": method.output_name, "unit": method.output_unit, "method": name}
+            doc = {"format": FORMAT, "measurand": m, "inputs": inputs}
+        doc["title"] = f"{method.title} (example values: put in your own)"
+        note = (
+            f"started from the built-in model {name} with invented example values: put in "
+            "your own estimates and uncertainties"
         )
+        self._start(doc, note)
 
     def start_blank(self) -> None:
         """Start from a blank formula budget, y = x."""
@@ -613,6 +615,19 @@ def _upload_changed(b: BudgetBuilder, files: Any) -> None:
         b._refuse_start(f"{item['name']}: not UTF-8 text; save the file as UTF-8")
         return
     b.load_text(text, str(item["name"]))
+
+
+def _example_document(method: str) -> dict[str, Any] | None:
+    """The shipped example budget of a built-in model, as a document (None if there is none)."""
+    from viscometry.workspace import bundled
+
+    try:
+        path = bundled("examples") / "methods" / f"{method}.toml"
+        doc = tomllib.loads(read_text_file(path, "a budget file"))
+    except (ViscometryError, tomllib.TOMLDecodeError):
+        return None
+    doc.pop("recorded", None)
+    return doc if doc.get("measurand", {}).get("method") == method else None
 
 
 def _budget_files(folder: str) -> list[str]:
