@@ -404,7 +404,7 @@ def test_example_file_matches_method(name: str) -> None:
 # Loading does not warn (warnings are errors here anyway); the budget carries the method's
 # checks, and every example must be within its model's validity: no estimate warnings.
 # Full evaluation of the cheap models; the others are evaluated by the budget-file and audit
-# tests that sweep examples/.
+# tests that run over examples/.
 @pytest.mark.parametrize("name", list(METHODS))
 def test_example_loads_clean(name: str) -> None:
     from viscometry.io import load_budget

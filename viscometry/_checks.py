@@ -6,7 +6,7 @@ import math
 
 from viscometry.errors import InputError
 
-__all__ = ["finite", "positive", "non_negative"]
+__all__ = ["finite", "positive", "non_negative", "degrees_of_freedom"]
 
 
 def finite(value: object, field: str) -> float:
@@ -45,3 +45,24 @@ def positive(value: object, field: str, *, allow_zero: bool = False) -> float:
 def non_negative(value: object, field: str) -> float:
     """A finite float ≥ 0, else :class:`InputError`."""
     return positive(value, field, allow_zero=True)
+
+
+def degrees_of_freedom(value: object, field: str = "dof") -> float:
+    """Degrees of freedom: a positive number, or ``inf`` (also ``None`` or the text "inf").
+
+    Examples
+    --------
+    >>> degrees_of_freedom(None), degrees_of_freedom("inf"), degrees_of_freedom(4)
+    (inf, inf, 4.0)
+    """
+    if value is None or (isinstance(value, str) and value.strip().lower() in {"inf", "infinity"}):
+        return math.inf
+    if isinstance(value, bool):
+        raise InputError(f"{field} must be a positive number or 'inf', got {value!r}")
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        raise InputError(f"{field} must be a positive number or 'inf', got {value!r}") from None
+    if math.isnan(x) or x <= 0:
+        raise InputError(f"{field} must be positive, got {x!r}")
+    return x

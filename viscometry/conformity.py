@@ -39,6 +39,7 @@ from typing import Literal
 
 from scipy import stats
 
+from viscometry._checks import degrees_of_freedom as _dof
 from viscometry._checks import finite as _finite
 from viscometry._checks import non_negative as _non_negative
 from viscometry._checks import positive as _positive
@@ -66,18 +67,6 @@ DECISION_CAUTION: str = (
 
 
 # --------------------------------------------------------------------------- validation
-
-
-def _dof(value: object) -> float:
-    if isinstance(value, bool):
-        raise InputError(f"dof must be a positive number or math.inf, got {value!r}")
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InputError(f"dof must be a positive number or math.inf, got {value!r}") from None
-    if math.isnan(x) or x <= 0.0:
-        raise InputError(f"dof must be positive, got {x!r}")
-    return x
 
 
 def _limits(lower: object, upper: object) -> tuple[float | None, float | None]:

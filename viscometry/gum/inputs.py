@@ -28,10 +28,11 @@ import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 from types import MappingProxyType
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
+from viscometry._checks import degrees_of_freedom as _dof
 from viscometry._checks import finite as _finite
 from viscometry._checks import positive as _positive
 from viscometry.errors import InputError
@@ -95,20 +96,6 @@ def check_name(name: object, field: str = "name") -> str:
     if not name.isascii():
         raise InputError(f"{field} must use ASCII letters only, got {name!r}")
     return name
-
-
-def _dof(value: object, field: str = "dof") -> float:
-    if value is None:
-        return math.inf
-    if isinstance(value, str) and value.strip().lower() in {"inf", "infinity"}:
-        return math.inf
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise InputError(f"{field} must be a positive number or 'inf', got {value!r}") from None
-    if math.isnan(x) or x <= 0:
-        raise InputError(f"{field} must be positive, got {x!r}")
-    return x
 
 
 def _probability(value: object, field: str = "coverage_probability") -> float:
@@ -510,21 +497,38 @@ class InputQuantity:
         )
 
     @classmethod
-    def _bounded(
+    def bounded(
         cls,
         kind: str,
         name: str,
-        value: float | None,
-        half_width: float | None,
-        unit: str,
-        lower: float | None,
-        upper: float | None,
-        beta: float | None,
-        dof: float | None,
-        relative_uncertainty_of_uncertainty: float | None,
-        description: str,
-        source: str,
+        value: float | None = None,
+        half_width: float | None = None,
+        unit: str = "",
+        *,
+        lower: float | None = None,
+        upper: float | None = None,
+        beta: float | None = None,
+        dof: float | None = None,
+        relative_uncertainty_of_uncertainty: float | None = None,
+        description: str = "",
+        source: str = "",
     ) -> InputQuantity:
+        """Type B input from the bounds of a symmetric distribution (``kind``: rectangular,
+        triangular, arcsine or trapezoidal), centred on its estimate.
+
+        Give ``half_width`` a with ``value``, or ``lower`` and ``upper`` (the estimate is
+        their centre). ``beta`` is the ratio of top to base half-width of a trapezoid;
+        ``dof`` or ``relative_uncertainty_of_uncertainty`` the reliability of u (JCGM
+        100:2008, G.4.2). The named constructors below say which divisor each shape has.
+
+        Examples
+        --------
+        >>> round(InputQuantity.bounded("triangular", "x", 0.0, 6.0).standard_uncertainty, 6)
+        2.44949
+        """
+        if kind not in ("rectangular", "triangular", "arcsine", "trapezoidal"):
+            raise InputError(f"{name}: a distribution given by bounds must be rectangular, "
+                             f"triangular, arcsine or trapezoidal, got {kind!r}")  # fmt: skip
         if half_width is not None and (lower is not None or upper is not None):
             raise InputError(f"{name}: give either half_width or lower/upper bounds, not both")
         stated: list[tuple[str, float | str]] = [("distribution", kind)]
@@ -580,20 +584,12 @@ class InputQuantity:
 
     @classmethod
     def rectangular(
-        cls,
-        name: str,
-        value: float | None = None,
-        half_width: float | None = None,
-        unit: str = "",
-        *,
-        lower: float | None = None,
-        upper: float | None = None,
-        dof: float | None = None,
-        relative_uncertainty_of_uncertainty: float | None = None,
-        description: str = "",
-        source: str = "",
-    ) -> InputQuantity:
+        cls, name: str, value: float | None = None, half_width: float | None = None,
+        unit: str = "", **bounds: Any,
+    ) -> InputQuantity:  # fmt: skip
         """Type B input with a rectangular distribution: u = a/√3 (JCGM 100:2008, 4.3.7).
+
+        Keywords as :meth:`bounded` (``lower``, ``upper``, ``dof``, ...).
 
         Examples
         --------
@@ -602,26 +598,13 @@ class InputQuantity:
         >>> InputQuantity.rectangular("x", lower=1.0, upper=3.0).value
         2.0
         """
-        return cls._bounded(
-            "rectangular", name, value, half_width, unit, lower, upper, None, dof,
-            relative_uncertainty_of_uncertainty, description, source,
-        )  # fmt: skip
+        return cls.bounded("rectangular", name, value, half_width, unit, **bounds)
 
     @classmethod
     def triangular(
-        cls,
-        name: str,
-        value: float | None = None,
-        half_width: float | None = None,
-        unit: str = "",
-        *,
-        lower: float | None = None,
-        upper: float | None = None,
-        dof: float | None = None,
-        relative_uncertainty_of_uncertainty: float | None = None,
-        description: str = "",
-        source: str = "",
-    ) -> InputQuantity:
+        cls, name: str, value: float | None = None, half_width: float | None = None,
+        unit: str = "", **bounds: Any,
+    ) -> InputQuantity:  # fmt: skip
         """Type B input with a symmetric triangular distribution: u = a/√6 (JCGM 100:2008, 4.3.9).
 
         Examples
@@ -629,26 +612,13 @@ class InputQuantity:
         >>> round(InputQuantity.triangular("x", 0.0, 6.0).standard_uncertainty, 6)
         2.44949
         """
-        return cls._bounded(
-            "triangular", name, value, half_width, unit, lower, upper, None, dof,
-            relative_uncertainty_of_uncertainty, description, source,
-        )  # fmt: skip
+        return cls.bounded("triangular", name, value, half_width, unit, **bounds)
 
     @classmethod
     def arcsine(
-        cls,
-        name: str,
-        value: float | None = None,
-        half_width: float | None = None,
-        unit: str = "",
-        *,
-        lower: float | None = None,
-        upper: float | None = None,
-        dof: float | None = None,
-        relative_uncertainty_of_uncertainty: float | None = None,
-        description: str = "",
-        source: str = "",
-    ) -> InputQuantity:
+        cls, name: str, value: float | None = None, half_width: float | None = None,
+        unit: str = "", **bounds: Any,
+    ) -> InputQuantity:  # fmt: skip
         """Type B input with an arcsine (U-shaped) distribution: u = a/√2 (JCGM 101:2008, 6.4.6).
 
         Typical of a quantity that oscillates sinusoidally, e.g. a bath temperature cycling
@@ -659,27 +629,13 @@ class InputQuantity:
         >>> round(InputQuantity.arcsine("dT", 0.0, 0.02, "K").standard_uncertainty, 6)
         0.014142
         """
-        return cls._bounded(
-            "arcsine", name, value, half_width, unit, lower, upper, None, dof,
-            relative_uncertainty_of_uncertainty, description, source,
-        )  # fmt: skip
+        return cls.bounded("arcsine", name, value, half_width, unit, **bounds)
 
     @classmethod
     def trapezoidal(
-        cls,
-        name: str,
-        value: float | None = None,
-        half_width: float | None = None,
-        unit: str = "",
-        *,
-        beta: float = 0.5,
-        lower: float | None = None,
-        upper: float | None = None,
-        dof: float | None = None,
-        relative_uncertainty_of_uncertainty: float | None = None,
-        description: str = "",
-        source: str = "",
-    ) -> InputQuantity:
+        cls, name: str, value: float | None = None, half_width: float | None = None,
+        unit: str = "", *, beta: float = 0.5, **bounds: Any,
+    ) -> InputQuantity:  # fmt: skip
         """Type B input with a symmetric trapezoidal distribution.
 
         Base half-width a, top half-width βa: u = a √((1 + β²)/6) (JCGM 100:2008, 4.3.9).
@@ -690,10 +646,7 @@ class InputQuantity:
         >>> round(InputQuantity.trapezoidal("x", 0.0, 1.0, beta=1.0).standard_uncertainty, 6)
         0.57735
         """
-        return cls._bounded(
-            "trapezoidal", name, value, half_width, unit, lower, upper, beta, dof,
-            relative_uncertainty_of_uncertainty, description, source,
-        )  # fmt: skip
+        return cls.bounded("trapezoidal", name, value, half_width, unit, beta=beta, **bounds)
 
     # ------------------------------------------------------------------ helpers
     @property
@@ -800,14 +753,11 @@ def _rebuild(q: InputQuantity) -> InputQuantity:
             coverage_probability=st.get("coverage_probability"), **dofs,  # type: ignore[arg-type]
         )  # fmt: skip
     kind = str(st.get("distribution"))
-    kwargs = {"lower": st.get("lower"), "upper": st.get("upper"), **dofs}
-    if kind == "trapezoidal":
-        kwargs["beta"] = st.get("beta")
-    factory = getattr(InputQuantity, kind, None)
-    if kind not in ("rectangular", "triangular", "arcsine", "trapezoidal") or factory is None:
-        raise InputError(f"{q.name}: bounds need a bounded distribution, got {kind!r}")
     value = None if "lower" in st else q.value
-    return factory(q.name, value, st.get("half_width"), q.unit, **kwargs)
+    return InputQuantity.bounded(
+        kind, q.name, value, st.get("half_width"), q.unit, lower=st.get("lower"),
+        upper=st.get("upper"), beta=st.get("beta") if kind == "trapezoidal" else None, **dofs,  # type: ignore[arg-type]
+    )  # fmt: skip
 
 
 def _dof_statement(dof: float | None, rel: float | None) -> tuple[tuple[str, float | str], ...]:

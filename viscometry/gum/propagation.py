@@ -116,7 +116,7 @@ def combined_variance(
     """Combined variance u_c² = Σᵢ Σⱼ cᵢ cⱼ u(xᵢ) u(xⱼ) r(xᵢ, xⱼ) (JCGM 100:2008, eq. 16).
 
     ``sensitivities`` may carry extra trailing axes (one budget per column) for
-    vectorised sweeps: shape (N,) or (N, M). ``uncertainties`` has shape (N,) or (N, M).
+    vectorised evaluations (working ranges, upgrade sets): shape (N,) or (N, M). ``uncertainties`` has shape (N,) or (N, M).
 
     Examples
     --------

@@ -24,7 +24,7 @@ from viscometry.gum.validity import uncertainty_warnings
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import Budget
 
-__all__ = ["BudgetResult", "InputContribution", "CrossTerm", "Propagation", "assemble"]
+__all__ = ["BudgetResult", "InputContribution", "CrossTerm", "OfBudget", "Propagation", "assemble"]
 
 #: Ratio of higher-order to first-order u_c beyond which the higher-order terms are flagged.
 HIGHER_ORDER_NOTICE = 0.01
@@ -67,8 +67,36 @@ class CrossTerm:
     variance_share: float
 
 
+class OfBudget:
+    """What every result made from one budget says about it: the measurand's name and unit,
+    the rounding rule and the fingerprint (a mix-in of BudgetResult, BudgetSimulation and
+    WorkingRange, whose ``budget`` field it reads)."""
+
+    budget: Budget
+
+    @property
+    def unit(self) -> str:
+        """The measurand's unit (every measurand number of the result is in it)."""
+        return self.budget.unit
+
+    @property
+    def measurand(self) -> str:
+        """The measurand's name."""
+        return self.budget.measurand
+
+    @property
+    def rounding(self) -> Rounding:
+        """The budget's rounding rule for the statement."""
+        return self.budget.rounding
+
+    @property
+    def fingerprint(self) -> str:
+        """The fingerprint of the budget."""
+        return self.budget.fingerprint
+
+
 @dataclass(frozen=True)
-class BudgetResult:
+class BudgetResult(OfBudget):
     """An evaluated budget (immutable snapshot), all measurand values in ``budget.unit``.
 
     Attributes
@@ -115,24 +143,6 @@ class BudgetResult:
     cross_terms: tuple[CrossTerm, ...]
     warnings: tuple[str, ...]
     first_order_standard_uncertainty: float
-
-    @property
-    def unit(self) -> str:
-        return self.budget.unit
-
-    @property
-    def measurand(self) -> str:
-        return self.budget.measurand
-
-    @property
-    def rounding(self) -> Rounding:
-        """The budget's rounding rule for the statement."""
-        return self.budget.rounding
-
-    @property
-    def fingerprint(self) -> str:
-        """The fingerprint of the evaluated budget."""
-        return self.budget.fingerprint
 
     @property
     def relative_expanded_uncertainty(self) -> float:

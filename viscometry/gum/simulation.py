@@ -32,6 +32,7 @@ from viscometry.gum.montecarlo import (
     run_monte_carlo,
     validate_against,
 )
+from viscometry.gum.result import OfBudget
 
 __all__ = [
     "BudgetSimulation",
@@ -52,7 +53,7 @@ ProgressCallback = Callable[[int, int], object]
 
 
 @dataclass(frozen=True)
-class BudgetSimulation:
+class BudgetSimulation(OfBudget):
     """A budget's Monte Carlo result and its validation of the first-order result (immutable).
 
     Attributes
@@ -81,16 +82,6 @@ class BudgetSimulation:
     notes: tuple[str, ...] = ()
 
     # ------------------------------------------------------------------ accessors
-    @property
-    def unit(self) -> str:
-        """Unit of every measurand figure (the budget's measurand unit)."""
-        return self.budget.unit
-
-    @property
-    def measurand(self) -> str:
-        """Name of the measurand."""
-        return self.budget.measurand
-
     @property
     def validated(self) -> bool:
         """``True`` when the first-order (or higher-order) result is validated."""

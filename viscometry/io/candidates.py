@@ -29,7 +29,6 @@ from __future__ import annotations
 
 import math
 import os
-import tomllib
 from collections.abc import Mapping
 from dataclasses import replace
 from typing import Any
@@ -38,7 +37,7 @@ from viscometry._checks import finite as _number
 from viscometry.errors import BudgetFileError, InputError
 from viscometry.gum.budget import Budget
 from viscometry.gum.inputs import DISTRIBUTIONS, InputQuantity
-from viscometry.io.reader import read_text_file
+from viscometry.io.reader import parse_toml, read_text_file
 from viscometry.planning.upgrades import MAX_CANDIDATES, Change, UpgradeCandidate
 
 __all__ = ["MAX_CANDIDATES_BYTES", "candidates_from_mapping", "load_candidates"]
@@ -61,13 +60,7 @@ def load_candidates(
         Naming the file, the candidate and the key.
     """
     text = read_text_file(path, "a candidates file", MAX_CANDIDATES_BYTES)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise BudgetFileError(f"{path}: not valid TOML: {exc}") from None
-    except RecursionError:
-        raise BudgetFileError(f"{path}: not valid TOML: nested too deeply") from None
-    return candidates_from_mapping(data, budget, source=str(path))
+    return candidates_from_mapping(parse_toml(text, str(path)), budget, source=str(path))
 
 
 def candidates_from_mapping(

@@ -44,7 +44,15 @@ from viscometry.io.schema import (
     Recorded,
 )
 
-__all__ = ["BudgetFile", "is_budget_file", "load_budget", "loads_budget", "read_text_file"]
+__all__ = [
+    "BudgetFile",
+    "is_budget_file",
+    "load_budget",
+    "loads_budget",
+    "parse_toml",
+    "read_document",
+    "read_text_file",
+]
 
 
 @dataclass(frozen=True)
@@ -183,13 +191,18 @@ def loads_budget(text: str, source_name: str = "<string>") -> BudgetFile:
         raise BudgetFileError(
             f"{src}: more than {MAX_FILE_BYTES} bytes; too large for a budget file"
         )
+    return read_document(parse_toml(text, src), src)
+
+
+def parse_toml(text: str, src: str) -> dict[str, Any]:
+    """The data of a TOML text (read with :mod:`tomllib`: data only, nothing is run), or a
+    :class:`~viscometry.errors.BudgetFileError` naming ``src`` and the line."""
     try:
-        doc = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise BudgetFileError(f"{src}: not valid TOML: {exc}") from None
     except RecursionError:
         raise BudgetFileError(f"{src}: not valid TOML: nested too deeply") from None
-    return read_document(doc, src)
 
 
 def read_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
@@ -513,9 +526,9 @@ def _bounded_input(r, where, name, spec, unit, common) -> InputQuantity:  # type
         if "beta" not in spec:
             raise r.fail(where, "a trapezoidal distribution needs beta (0 to 1)")
         kwargs["beta"] = r.number(spec, "beta", where)
-    factory = getattr(InputQuantity, dist)
     value = r.number(spec, "value", where, default=None)
-    return factory(name, value, r.number(spec, "half_width", where, default=None), unit, **kwargs)
+    half_width = r.number(spec, "half_width", where, default=None)
+    return InputQuantity.bounded(dist, name, value, half_width, unit, **kwargs)
 
 
 def _standard_input(r, where, name, spec, unit, common) -> InputQuantity:  # type: ignore[no-untyped-def]

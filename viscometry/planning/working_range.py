@@ -21,6 +21,7 @@ from viscometry.errors import InputError
 from viscometry.gum.budget import Budget
 from viscometry.gum.linearised import frozen_array
 from viscometry.gum.propagation import propagate
+from viscometry.gum.result import OfBudget
 
 __all__ = [
     "MAX_POINTS",
@@ -40,7 +41,7 @@ Adjust = Callable[[np.ndarray], Mapping[str, Any]]
 
 
 @dataclass(frozen=True)
-class WorkingRange:
+class WorkingRange(OfBudget):
     """A budget evaluated across a range of one input (arrays are read-only).
 
     Attributes
@@ -76,14 +77,6 @@ class WorkingRange:
     contributions: np.ndarray
     dominant: tuple[str, ...]
     warnings: tuple[str, ...] = ()
-
-    @property
-    def unit(self) -> str:
-        return self.budget.unit
-
-    @property
-    def measurand(self) -> str:
-        return self.budget.measurand
 
     @property
     def input_names(self) -> tuple[str, ...]:

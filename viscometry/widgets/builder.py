@@ -24,7 +24,6 @@ from __future__ import annotations
 import copy
 import html
 import re
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -36,7 +35,7 @@ import ipywidgets as widgets
 from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import check_name
-from viscometry.io.reader import is_budget_file, read_document, read_text_file
+from viscometry.io.reader import is_budget_file, parse_toml, read_document, read_text_file
 from viscometry.io.schema import FORMAT
 from viscometry.io.writer import budget_to_document, dumps_budget, recorded_from, save_budget
 from viscometry.plots import figure_png, pareto_figure
@@ -179,10 +178,8 @@ class BudgetBuilder:
     def load_text(self, text: str, name: str = "uploaded file") -> bool:
         """Start from the text of a budget file (an upload)."""
         try:
-            doc = tomllib.loads(text)
+            doc = parse_toml(text, name)
             read_document(doc, name)
-        except tomllib.TOMLDecodeError as exc:
-            return self._refuse_start(f"{name}: not valid TOML: {exc}")
         except ViscometryError as exc:
             return self._refuse_start(str(exc))
         doc.pop("recorded", None)
@@ -623,8 +620,8 @@ def _example_document(method: str) -> dict[str, Any] | None:
 
     try:
         path = bundled("examples") / "methods" / f"{method}.toml"
-        doc = tomllib.loads(read_text_file(path, "a budget file"))
-    except (ViscometryError, tomllib.TOMLDecodeError):
+        doc = parse_toml(read_text_file(path, "a budget file"), str(path))
+    except ViscometryError:
         return None
     doc.pop("recorded", None)
     return doc if doc.get("measurand", {}).get("method") == method else None
