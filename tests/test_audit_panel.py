@@ -19,7 +19,10 @@ PRIMARY = EXAMPLES / "primary_capillary_poiseuille.toml"
 def test_the_examples_audit_clean_with_verdicts_in_words_and_colour(tmp_path: Path) -> None:
     panel = audit_panel(EXAMPLES, export_folder=tmp_path / "record")
     assert {v.status for v in panel.verdicts} == {"match"} and len(panel.verdicts) == 20
-    assert "audit PASSED: 20 budget file(s), 20 recorded result(s) confirmed" in panel.summary_html.value
+    assert (
+        "audit PASSED: 20 budget file(s), 20 recorded result(s) confirmed"
+        in panel.summary_html.value
+    )
     assert "color:#060" in panel.summary_html.value
     assert panel.table_html.value.count("recorded result confirmed") >= 20
 
@@ -29,12 +32,18 @@ def test_a_changed_number_is_caught_and_shown_in_red(tmp_path: Path) -> None:
     folder.mkdir()
     text = PRIMARY.read_text(encoding="utf-8")
     assert text.count("half_width = 0.05\n") == 1
-    (folder / "changed.toml").write_text(text.replace("half_width = 0.05\n", "half_width = 0.051\n"))
+    (folder / "changed.toml").write_text(
+        text.replace("half_width = 0.05\n", "half_width = 0.051\n")
+    )
     shutil.copy(PRIMARY, folder / "unchanged.toml")
     (folder / "emptied.toml").write_text("", encoding="utf-8")
     panel = audit_panel(folder)
     statuses = {Path(v.path).name: v.status for v in panel.verdicts}
-    assert statuses == {"changed.toml": "differs", "unchanged.toml": "match", "emptied.toml": "error"}
+    assert statuses == {
+        "changed.toml": "differs",
+        "unchanged.toml": "match",
+        "emptied.toml": "error",
+    }
     assert "audit FAILED" in panel.summary_html.value and "color:#a00" in panel.summary_html.value
     assert "DIFFERS</b> — differs from the record" in panel.table_html.value
     assert "ERROR</b> — cannot be read or evaluated" in panel.table_html.value

@@ -68,8 +68,10 @@ def _expected_statement(notebook: Path, name: str, new_u: float) -> str:
             exec(compile(source, str(notebook), "exec"), namespace)  # our own workbook's code
     finally:
         os.chdir(cwd)
+    from viscometry.text import statement
+
     budget = namespace["budget"]
-    return budget.with_uncertainty(name, new_u).evaluate().statement()
+    return statement(budget.with_uncertainty(name, new_u).evaluate())
 
 
 def test_budget_editor_in_a_real_browser(tmp_path):

@@ -361,7 +361,9 @@ def _statement_html(b: BudgetBuilder) -> str:
             "<span style='color:#a00'>showing the last budget that could be built; "
             "a field above refuses its value (see the red message)</span>"
         )
-    return "<div class='viscometry-statement'>" + "<br>".join(lines) + "</div>"
+    # the 71-character fingerprint may break anywhere, so a narrow column never cuts the text
+    style = "overflow-wrap:anywhere"
+    return f"<div class='viscometry-statement' style='{style}'>" + "<br>".join(lines) + "</div>"
 
 
 # ============================================================================ filling the editor
@@ -435,6 +437,9 @@ def _fill_checks(b: BudgetBuilder) -> None:
             value = spec.get("value") if isinstance(spec, dict) else spec
             unit = spec.get("unit", method.context_unit(key)) if isinstance(spec, dict) else "1"
             row = CheckRow.make(key, html.escape(text), value, unit)
+            # the key is the label: 9em cut "minimum_flow_time" (17 characters) in the browser
+            row.value.text.style.description_width = "12em"
+            row.value.text.layout.width = row.value.text.layout.min_width = "25em"
             for w in (row.value.text, row.unit):
                 w.observe(lambda _c: _checks_changed(b), names="value")
             state.checks[key] = row
@@ -702,7 +707,10 @@ def _layout(c: dict[str, Any]) -> widgets.VBox:
     c["statement_html"].add_class("viscometry-statement")
     c["table_html"].add_class("viscometry-budget-table")
     c["chart"].add_class("viscometry-chart")
-    return widgets.VBox([
+    for name, control in c.items():  # stable hooks for browser tests: viscometry-builder-save-path
+        widget = control.text if isinstance(control, NumberField) else control
+        widget.add_class(f"viscometry-builder-{name.replace('_', '-')}")
+    tree = widgets.VBox([
         h("Start from a budget file, a built-in model or a blank formula"),
         wrap_row([c["folder"], c["files"]]), wrap_row([c["path"], c["load_button"], c["upload"]]),
         wrap_row([c["model_choice"], c["start_button"], c["blank_button"]]), c["start_message"],
@@ -711,12 +719,14 @@ def _layout(c: dict[str, Any]) -> widgets.VBox:
                   c["coverage_kind"], c["coverage_value"].text, c["rounding"], c["description"]]),
         c["header_message"],
         h("Inputs"), c["inputs_box"], wrap_row([c["new_input"], c["add_input"]]), c["inputs_message"],
-        h("Correlations"), c["correlations_box"], c["add_correlation"], c["correlations_message"],
+        h("Correlations"), c["correlations_box"], wrap_row([c["add_correlation"]]), c["correlations_message"],
         h("Check context of the built-in model"), c["checks_box"], c["checks_message"],
         h("Result"), wrap_row([controls_column([c["statement_html"]]), c["chart"]]), c["table_html"],
         h("Save and export"), wrap_row([c["save_path"], c["overwrite"], c["save_button"]]), c["save_html"],
         wrap_row([c["export_folder"], c["export_button"]]), c["export_html"],
     ], layout=widgets.Layout(width="100%"))  # fmt: skip
+    tree.add_class("viscometry-builder")
+    return tree
 
 
 def _wire(b: BudgetBuilder) -> None:

@@ -123,7 +123,7 @@ class InputRow:
         num = NumberField.make
         row = cls(
             key=key, name=_text("name", key, "14em"), value=num("estimate x"),
-            unit=_text("unit", "1", "14em"),
+            unit=_text("unit", "1", "17em"),
             form=_dropdown("uncertainty as", [(v, k) for k, v in FORM_LABELS.items()], "standard", "24em"),
             u=num("u(x)"), distribution=_dropdown("distribution", list(DISTRIBUTIONS), "normal"),
             evaluation=_dropdown("evaluation", [("Type B", "B"), ("Type A", "A")], "B", "15em"),
@@ -143,6 +143,12 @@ class InputRow:
             message=message_label(), form_box=wrap_row([]), box=widgets.VBox(),
         )  # fmt: skip
         row.box.add_class(f"viscometry-input-{key}")
+        for attr in ("name", "value", "unit", "form", "u", "distribution", "evaluation", "big_u",
+                     "k_or_p", "k_value", "half_width", "bounded", "beta", "readings", "pooled_s",
+                     "pooled_dof", "dof", "description", "source", "remove", "message"):  # fmt: skip
+            control = getattr(row, attr)  # stable hooks for browser tests: viscometry-field-big-u
+            widget = control.text if isinstance(control, NumberField) else control
+            widget.add_class(f"viscometry-field-{attr.replace('_', '-')}")
         row.load(spec)
         return row
 
@@ -334,7 +340,7 @@ class CheckRow:
     def make(cls, key: str, description: str, value: float | None, unit: str) -> CheckRow:
         v = NumberField.make(key, value, optional=True, tooltip=description)
         v.text.layout.width = "22em"
-        u = _text("unit", unit, "12em")
+        u = _text("unit", unit, "16em")
         note = widgets.HTML(
             f"<small>{description}</small>", layout=widgets.Layout(min_width="14em")
         )
