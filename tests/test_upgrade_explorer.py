@@ -18,6 +18,7 @@ import re
 import tomllib
 from pathlib import Path
 
+import ipywidgets as widgets
 import pytest
 
 import viscometry.planning.upgrades as upgrades
@@ -107,7 +108,7 @@ def test_ticking_updates_the_verdict(linear: Budget) -> None:
 def test_changing_the_target_rereads_the_cheapest_set(linear: Budget) -> None:
     ex = make(linear, target=15.0)
     ex.checkboxes["better c"].value = True
-    ex.target.value = 12.0
+    ex.target.value = "12"
     s = text(ex.summary_html.value)
     assert "target U ≤ 12 mm: not reached" in s  # 14.14 > 12
     # Reaching 12: {b, c} U = 2√34 = 11.66 for 1050, {a, b, c} U = 10 for 1150, {a, c} 12.81 no.
@@ -115,16 +116,16 @@ def test_changing_the_target_rereads_the_cheapest_set(linear: Budget) -> None:
         "cheapest set reaching the target: better b + better c, cost 1,050 EUR, U = 11.66 mm" in s
     )
     assert ex.selected_result().reaches_target is False
-    ex.target.value = 9.0  # below the best set (U = 2·√25 = 10): unreachable
+    ex.target.value = "9"  # below the best set (U = 2·√25 = 10): unreachable
     s = text(ex.summary_html.value)
     assert (
         "none of the evaluated sets reaches it (smallest U = 10 mm, with better a + better b + better c)"
         in s
     )
     assert ex.cheapest() is None
-    ex.target.value = 0.0
+    ex.target.value = ""  # an empty field: no target
     assert "target: none set" in text(ex.summary_html.value)
-    assert ex.current_plan().target is None
+    assert ex.current_plan().target is None and ex.error is None
 
 
 def test_table_ranks_candidates_by_reduction_per_cost(linear: Budget) -> None:
@@ -143,15 +144,18 @@ def test_table_ranks_candidates_by_reduction_per_cost(linear: Budget) -> None:
         assert r[6] == f"{o.reduction_per_cost:.3g}"
         assert r[-1] == ("yes" if o.reaches_target else "no")
     assert singles[0][6] == "0.0252"  # (26 - 2√153)/50
-    # Sets ranked by U: the first is all three (U = 10), then {b, c} (11.66).
-    ranked = rows[5:]
+    assert "8 sets evaluated (exhaustive)" in text(ex.table_html.value)
+    # With "show all sets": every set ranked by U; the first is all three (U = 10), then
+    # {b, c} (11.66).
+    ex.show_all.value = True
+    ranked = table_rows(ex.table_html.value)[5:]
+    assert len(ranked) == 8
     assert ranked[0][1] == "better a + better b + better c" and ranked[0][3] == "10"
     assert ranked[1][1] == "better b + better c" and ranked[1][3] == "11.66"
-    assert "8 sets evaluated (exhaustive)" in text(ex.table_html.value)
 
 
 def test_table_keeps_the_ticked_set_when_outside_the_top(linear: Budget) -> None:
-    ex = make(linear, target=12.0, top=1, ticked=["better a"])
+    ex = make(linear, target=12.0, top=1, ticked=["better a"], show_all=True)
     rows = table_rows(ex.table_html.value)
     ranked = [r for r in rows[5:] if r[0] != "#"]
     assert [r[1] for r in ranked] == ["better a + better b + better c", "better a",
@@ -165,7 +169,7 @@ def test_explorer_agrees_with_the_planner_on_the_example(linear: Budget) -> None
     cands, _currency = candidates_from_mapping(data, bf.budget)
     ex = upgrade_explorer(bf.budget, cands, 0.003, currency="EUR", show_chart=False)
     for target in (0.003, 0.0025, 0.0017, 0.001):
-        ex.target.value = target
+        ex.target.value = repr(target)
         mine = ex.cheapest()
         theirs = evaluate_upgrades(bf.budget, cands, target=target).cheapest
         if theirs is None:
@@ -193,7 +197,8 @@ def test_ticks_only_look_results_up(linear: Budget, monkeypatch: pytest.MonkeyPa
     monkeypatch.setattr(upgrades, "_evaluate", forbidden)
     monkeypatch.setattr(Budget, "evaluate", forbidden)
     ex.checkboxes["better a"].value = True
-    ex.target.value = 20.0
+    ex.target.value = "20"
+    ex.show_all.value = True
     assert ex.selected_result().candidates == ("better a",)
 
 
@@ -241,3 +246,123 @@ def test_cheapest_reaching_matches_the_planner(linear: Budget) -> None:
         assert (mine is None) == (plan.cheapest is None)
         if mine is not None:
             assert mine.candidates == plan.cheapest.candidates
+
+
+# ------------------------------------------------------------------------ the cost–U frontier
+def test_the_table_shows_the_frontier_by_default_and_every_set_on_request(linear: Budget) -> None:
+    ex = make(linear, target=12.0)
+    assert ex.show_all.value is False
+    rows = table_rows(ex.table_html.value)
+    shown = [r[1] for r in rows[5:]]
+    # By cost: (baseline) 0/26; b 50/24.74; a+b 150/24; c 1000/14.14; b+c 1050/11.66;
+    # a+b+c 1150/10. Not on it: a (100, U 25.30 > 24.74 of b for 50) and a+c (1100, U 12.81 >
+    # 11.66 of b+c for 1050) — worked out by hand from u_c² = Σ u²(xᵢ), U = 2 u_c.
+    assert shown == ["(baseline)", "better b", "better a + better b", "better c",
+                     "better b + better c", "better a + better b + better c"]  # fmt: skip
+    assert shown == [o.label for o in ex.current_plan().frontier]  # asked of the plan
+    assert [o.label for o in ex.frontier()] == shown
+    assert "cost–U frontier: the 6 sets that no cheaper set beats" in text(ex.table_html.value)
+    ex.show_all.value = True
+    assert len(table_rows(ex.table_html.value)[5:]) == 8
+    assert "every set, ranked by U (8 of 8 shown)" in text(ex.table_html.value)
+    ex.show_all.value = False
+    assert [r[1] for r in table_rows(ex.table_html.value)[5:]] == shown
+
+
+def test_a_ticked_set_off_the_frontier_is_still_listed(linear: Budget) -> None:
+    ex = make(linear, target=12.0, ticked=["better a", "better c"])
+    rows = table_rows(ex.table_html.value)[5:]
+    assert rows[-1][0] == "·" and rows[-1][1] == "better a + better c"
+    assert "background:#dde8ff'><td>·</td>" in ex.table_html.value
+
+
+# ------------------------------------------------------------------------ refusals are shown
+@pytest.mark.parametrize(
+    ("typed", "expected"),
+    [
+        ("0", "target expanded uncertainty must be positive, got 0.0"),
+        ("-1", "target expanded uncertainty must be positive, got -1.0"),
+        ("abc", "target U: 'abc' is not a number"),
+    ],
+)
+def test_a_refused_target_shows_the_message_and_keeps_the_last_one(
+    linear: Budget, typed: str, expected: str
+) -> None:
+    ex = make(linear, target=15.0)
+    ex.checkboxes["better c"].value = True
+    table = ex.table_html.value
+    if typed != "abc":  # the plan's own message (viscometry.planning.UpgradePlan.with_target)
+        with pytest.raises(InputError) as caught:
+            ex.plan.with_target(float(typed))
+        assert str(caught.value) == expected
+    ex.target.value = typed
+    assert ex.error == expected
+    assert html.escape(expected) in ex.target_message.value  # next to the field
+    assert "color:#a00" in ex.target_message.value
+    assert f"target not applied: {expected}" in text(ex.summary_html.value)
+    assert ex.current_target() == 15.0  # the last good target stays, nothing clamped
+    assert ex.target.value == typed
+    assert "target U ≤ 15 mm: reached" in text(ex.summary_html.value)
+    assert ex.table_html.value == table
+    ex.target.value = "14"
+    assert ex.error is None and ex.target_message.value == "" and ex.current_target() == 14.0
+    assert "target U ≤ 14 mm: not reached" in text(ex.summary_html.value)  # 14.14 > 14
+
+
+def test_set_target_from_code_keeps_the_exact_number(linear: Budget) -> None:
+    ex = make(linear)
+    assert ex.set_target(14.142135)
+    assert ex.target.value == "14.14"  # four significant digits shown
+    assert ex.current_target() == 14.142135
+    # 2√50 = 14.1421356... > 14.142135: not reached (exact arithmetic)
+    ex.checkboxes["better c"].value = True
+    assert ex.selected_result().reaches_target is False
+    assert not ex.set_target(-2.0)
+    assert ex.current_target() == 14.142135
+    assert ex.set_target(None) and ex.current_target() is None and ex.target.value == ""
+
+
+def test_the_plans_warnings_are_shown_in_colour() -> None:
+    # u(a) = 2 ≥ |a| = 1 for a factor of the product a·b: a plausibility warning of the budget
+    b = Budget.from_formula(
+        "y", "a * b", [InputQuantity.normal("a", 1.0, 2.0), InputQuantity.normal("b", 1.0, 0.1)]
+    )
+    ex = upgrade_explorer(b, [UpgradeCandidate("better a", 5.0, {"a": 0.1})], show_chart=False)
+    assert ex.plan.warnings and ex.plan.warnings == b.evaluate().warnings
+    shown = re.findall(r"<span style='color:#a60'>warning: (.*?)</span>", ex.summary_html.value)
+    assert [html.unescape(w) for w in shown] == list(ex.plan.warnings)
+
+
+# ------------------------------------------------------------------------ layout
+def _tree(w: widgets.Widget) -> list[widgets.Widget]:
+    out = [w]
+    for child in getattr(w, "children", ()):
+        out += _tree(child)
+    return out
+
+
+def test_layout_wraps_labels_and_keeps_costs_and_chart_whole(linear: Budget) -> None:
+    long = UpgradeCandidate("a very long candidate name that cannot fit a narrow column", 12345.0,
+                            {"a": 1.0})  # fmt: skip
+    ex = upgrade_explorer(linear, [*CANDIDATES, long], currency="EUR", show_chart=False)
+    row = ex.widget.children[1]
+    assert row.layout.flex_flow == "row wrap"  # the chart goes below the controls when narrow
+    column, chart = row.children
+    assert column.layout.min_width == "22em"  # the tick-box column is never zero wide
+    assert (chart.layout.width, chart.layout.height) == ("100%", "auto")  # aspect kept
+    assert chart.layout.max_width
+    for name, box in ex.checkboxes.items():
+        tick = next(w for w in _tree(column) if box in getattr(w, "children", ()))
+        (label,) = [w for w in tick.children if w is not box]
+        # the label is an HTML block that wraps (a Checkbox description would be cut)
+        assert isinstance(label, widgets.HTML) and "white-space:normal" in label.value
+        assert label.layout.min_width == "10em" and box.layout.min_width == "2em"
+        assert html.escape(name) in label.value
+    # the whole cost stays in one piece beside the name
+    labels = [text(w.value) for w in _tree(column) if isinstance(w, widgets.HTML)]
+    assert any(t.endswith("cannot fit a narrow column (12,345 EUR)") for t in labels)
+    # costs in the table never break over lines; only the set's name wraps
+    assert ".viscometry-upgrade-table td{white-space:nowrap" in ex.table_html.value
+    for w in _tree(ex.widget):
+        if isinstance(w, widgets.Text | widgets.Dropdown | widgets.Button | widgets.Checkbox):
+            assert w.layout.min_width not in (None, "", "0", "0px"), w

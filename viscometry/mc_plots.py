@@ -196,12 +196,12 @@ def monte_carlo_figure(
     name = symbol(sim.measurand)
     ax.set_xlabel(f"{name} / {unit}" if unit else name)
     ax.set_ylabel(f"probability density / ({unit})⁻¹" if unit else "probability density")
-    ax.set_ylim(0.0, 1.45 * float(max(np.max(density), np.max(first_order_density(sim, x)))))
+    ax.set_ylim(0.0, 1.08 * float(max(np.max(density), np.max(first_order_density(sim, x)))))
     verdict = "validated" if sim.validated else "not validated"
     delta = f"{sim.validation.tolerance:.{dec}f}{unit_text}"
     ax.set_title(
         title if title is not None else f"{name}: {fo.propagation} budget {verdict} at δ = {delta}"
     )
-    # The headroom above the densities (y limit 1.45 × the peak) holds the legend.
-    ax.legend(loc="upper center", fontsize=7, ncols=2)
+    # The legend goes below the axes, clear of the histogram and the interval lines.
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.16), fontsize=7, ncols=2, frameon=False)
     return fig  # type: ignore[return-value]

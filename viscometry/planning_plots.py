@@ -150,9 +150,10 @@ def plot_upgrades(
         ax.axvline(plan.target, color="tab:red", linestyle="--", label=f"target {plan.target:.3g}")
     ax.set_xlabel(f"expanded uncertainty U / {unit}")
     ax.set_xlim(0, max(base, max(after)) * 1.35)
-    ax.set_ylim(-0.6, n - 0.4 + 0.9)  # room above the bars for the legend
+    ax.set_ylim(-0.6, n - 0.4)
     ax.set_title("U before and after each upgrade")
-    ax.legend(fontsize="small", loc="upper right", ncols=3)
+    # below the axes, clear of the bars and the target line
+    ax.legend(fontsize="small", loc="upper center", bbox_to_anchor=(0.5, -0.14 - 0.5 / n), ncols=3, frameon=False)
     return fig
 
 

@@ -483,9 +483,11 @@ def _coverage_indices(m: int, p: float) -> tuple[int, int]:
     """q and r of JCGM 101:2008, 7.7 (1-based r); checks M is large enough for p."""
     q = int(math.floor(p * m + 0.5))
     if q < 1 or q > m - 1:
+        least = max(math.floor(0.5 / (1.0 - p)) + 1, math.ceil(0.5 / p))
         raise InputError(
             f"trials = {m} is too few for coverage_probability = {p!r}: a coverage interval "
-            f"needs 1 ≤ round(p·M) ≤ M − 1 (JCGM 101:2008, 7.2 recommends M ≫ 1/(1 − p))"
+            f"needs 1 ≤ round(p·M) ≤ M − 1, so at least M = {least} trials (JCGM 101:2008, 7.2 "
+            "recommends M ≫ 1/(1 − p))"
         )
     r = (m - q + 1) // 2
     return q, r

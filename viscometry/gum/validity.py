@@ -229,10 +229,10 @@ def uncertainty_warnings(
     bound = set(sign_bound)
     for q in inputs:
         if q.name in bound and q.value != 0 and q.standard_uncertainty >= abs(q.value):
-            unit = f" {_units.format_unit(q.unit)}" if q.unit not in ("", "1") else ""
+            q_unit = f" {_units.format_unit(q.unit)}" if q.unit not in ("", "1") else ""
             out.append(
-                f"u({q.name}) = {q.standard_uncertainty:.3g}{unit} is at least |{q.name}| = "
-                f"{abs(q.value):.3g}{unit}: its distribution reaches past zero, which "
+                f"u({q.name}) = {q.standard_uncertainty:.3g}{q_unit} is at least |{q.name}| = "
+                f"{abs(q.value):.3g}{q_unit}: its distribution reaches past zero, which "
                 f"{q.name} cannot (it enters the model as a factor that keeps its sign); check "
                 "the value, or state the uncertainty with a bounded distribution and use the "
                 "Monte Carlo method (JCGM 101)"

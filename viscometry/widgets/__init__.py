@@ -9,6 +9,7 @@ immutable budgets and results.
 from viscometry.widgets.audit_panel import AuditPanel, audit_panel
 from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
 from viscometry.widgets.builder import BudgetBuilder, budget_builder
+from viscometry.widgets.decisions import ConformityPanel, ScorePanel, conformity_panel, score_panel
 from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
 from viscometry.widgets.upgrade_explorer import UpgradeExplorer, upgrade_explorer
 
@@ -17,10 +18,14 @@ __all__ = [
     "audit_panel",
     "BudgetBuilder",
     "BudgetEditor",
+    "ConformityPanel",
     "MonteCarloPanel",
+    "ScorePanel",
     "UpgradeExplorer",
     "budget_builder",
     "budget_editor",
+    "conformity_panel",
     "monte_carlo_panel",
+    "score_panel",
     "upgrade_explorer",
 ]

@@ -56,11 +56,14 @@ from viscometry.widgets.builder_rows import (
     converted,
 )
 from viscometry.widgets.fields import (
+    SCROLL_STYLE,
     chart_image,
     controls_column,
     download_link,
     error_html,
     message_label,
+    scrolling_html,
+    warning_lines,
     wrap_row,
 )
 
@@ -334,7 +337,7 @@ def _show_messages(b: BudgetBuilder) -> None:
 def _redraw(b: BudgetBuilder) -> None:
     result = b._state.result
     assert result is not None
-    b.table_html.value = budget_html(result)
+    b.table_html.value = SCROLL_STYLE + budget_html(result)
     b.statement_html.value = _statement_html(b)
     if b.show_chart:
         b.chart.value = figure_png(pareto_figure(result, figsize=(5.6, 3.4)), dpi=80.0)
@@ -354,7 +357,7 @@ def _statement_html(b: BudgetBuilder) -> str:
           f"{symbol(dom.name)} ({100 * dom.variance_share:.1f} %)"),
         f"fingerprint <code>{e(budget.fingerprint)}</code>",
     ]  # fmt: skip
-    lines += [f"<span style='color:#a60'>warning: {e(w)}</span>" for w in result.warnings]
+    lines += warning_lines(result.warnings)
     pending = [k for k in state.messages if k not in ("start", "save", "export")]
     if pending:
         lines.append(
@@ -689,7 +692,7 @@ def _controls(folder: str, save_path: str, export_folder: str) -> dict[str, Any]
         "correlations_box": widgets.VBox(), "add_correlation": _button("Add correlation"),
         "correlations_message": message_label(), "checks_box": widgets.VBox(),
         "checks_message": message_label(), "statement_html": widgets.HTML(),
-        "table_html": widgets.HTML(layout=widgets.Layout(width="100%", overflow="auto")),
+        "table_html": scrolling_html(),
         "chart": chart_image(), "save_path": _field("save as", save_path, "32em"),
         "overwrite": widgets.Checkbox(value=False, description="overwrite an existing file", indent=False,
                                       layout=widgets.Layout(width="auto")),

@@ -30,6 +30,10 @@ __all__ = [
     "number_text",
     "parse_number",
     "parse_readings",
+    "SCROLL_STYLE",
+    "WARNING_COLOUR",
+    "warning_lines",
+    "scrolling_html",
     "show_number",
     "wrap_row",
 ]
@@ -115,6 +119,17 @@ def error_html(messages: Sequence[str]) -> str:
     return "".join(f"<div style='color:#a00'>{html.escape(m)}</div>" for m in messages)
 
 
+#: Colour of a warning (a legal but doubtful result); refusals are red (:func:`error_html`).
+WARNING_COLOUR = "#a60"
+
+
+def warning_lines(warnings: Sequence[str]) -> list[str]:
+    """Each warning as an HTML line in the warning colour (escaped)."""
+    return [
+        f"<span style='color:{WARNING_COLOUR}'>warning: {html.escape(w)}</span>" for w in warnings
+    ]
+
+
 def wrap_row(children: Sequence[Any], *, gap: str = "0.3em 1.2em") -> widgets.Box:
     """Children side by side, wrapping onto new lines when the page is narrow."""
     return widgets.Box(
@@ -149,3 +164,16 @@ def download_link(name: str, data: bytes, label: str, mime: str = "text/plain") 
     b64 = base64.b64encode(data).decode("ascii")
     safe = html.escape(name, quote=True)
     return f"<a download='{safe}' href='data:{mime};base64,{b64}'>{html.escape(label)}</a>"
+
+
+#: A style that lets a wide table scroll sideways inside its HTML widget instead of being cut
+#: (the widget's content box would otherwise grow to the table's width).
+SCROLL_STYLE = "<style>.viscometry-scroll-x > .widget-html-content{min-width:0}</style>"
+
+
+def scrolling_html() -> widgets.HTML:
+    """An HTML output for a wide table: full width, scrolling sideways when narrow; give it
+    ``SCROLL_STYLE + html`` as its value."""
+    out = widgets.HTML(layout=widgets.Layout(width="100%"))
+    out.add_class("viscometry-scroll-x")
+    return out
