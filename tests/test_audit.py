@@ -36,9 +36,13 @@ def verdicts() -> tuple:
 def test_every_budget_file_is_audited_and_others_skipped(verdicts: tuple) -> None:
     audited = {Path(v.path).resolve() for v in verdicts}
     assert PRIMARY.resolve() in audited
-    # The list of upgrade candidates is TOML but not a budget file: skipped.
+    # The list of upgrade candidates and the step-up chain's data are TOML but not budget
+    # files: skipped.
     assert (EXAMPLES / "upgrades" / "pressure_capillary_upgrades.toml").resolve() not in audited
-    budget_files = [p for p in EXAMPLES.rglob("*.toml") if "upgrades" not in p.parts]
+    assert (EXAMPLES / "chains" / "ashcombe_step_up_chain.toml").resolve() not in audited
+    budget_files = [
+        p for p in EXAMPLES.rglob("*.toml") if not {"upgrades", "chains"} & set(p.parts)
+    ]
     assert len(verdicts) == len(budget_files)
 
 

@@ -153,7 +153,13 @@ def plot_upgrades(
     ax.set_ylim(-0.6, n - 0.4)
     ax.set_title("U before and after each upgrade")
     # below the axes, clear of the bars and the target line
-    ax.legend(fontsize="small", loc="upper center", bbox_to_anchor=(0.5, -0.14 - 0.5 / n), ncols=3, frameon=False)
+    ax.legend(
+        fontsize="small",
+        loc="upper center",
+        bbox_to_anchor=(0.5, -0.14 - 0.5 / n),
+        ncols=3,
+        frameon=False,
+    )
     return fig
 
 

@@ -13,14 +13,13 @@ in seconds (Type A, JCGM 100:2008, 4.2), and the chain is built by
 :func:`viscometry.methods.step_up_chain` — so the chain's checks (flow times, factor-3 steps)
 come with its evaluation, as for every budget. Errors name the file, the table, the key and
 the value (:class:`~viscometry.errors.BudgetFileError`, with ``where`` saying which part of
-the chain they are about). Reading uses :mod:`tomllib` (data only) and a size limit; nothing
-in a file is ever run.
+the chain they are about). Reading uses :mod:`tomllib` (data only, through the budget
+reader's ``parse_toml``) and a size limit; nothing in a file is ever run.
 """
 
 from __future__ import annotations
 
 import os
-import tomllib
 from collections.abc import Iterator, Mapping
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -31,16 +30,13 @@ from viscometry import units as _units
 from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.inputs import InputQuantity
 from viscometry.io.reader import (
-    _bounded_input,
-    _expanded_input,
-    _form,
     _Reader,
-    _readings_input,
     _show,
-    _standard_input,
+    parse_toml,
+    read_quantity,
     read_text_file,
 )
-from viscometry.io.schema import INPUT_KEYS, MAX_FILE_BYTES
+from viscometry.io.schema import MAX_FILE_BYTES
 from viscometry.methods.calibration import (
     CertifiedLiquid,
     StepUpChain,
@@ -79,11 +75,6 @@ CONSTANT_UNIT = "mm^2/s^2"
 CERTIFIED_UNIT = "mm^2/s"
 #: Temperature of the water reference (ISO/TR 3666:1998: 20 °C) [K].
 WATER_TEMPERATURE = 293.15
-
-_BUILDERS = {
-    "readings": _readings_input, "expanded_uncertainty": _expanded_input,
-    "half_width": _bounded_input, "standard_uncertainty": _standard_input,
-}  # fmt: skip
 
 
 @dataclass(frozen=True)
@@ -206,12 +197,8 @@ def loads_chain_file(text: str, source_name: str = "<string>") -> ChainFile:
         raise BudgetFileError(
             f"{src}: more than {MAX_FILE_BYTES} bytes; too large for a chain file"
         )
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise BudgetFileError(f"{src}: not valid TOML: {exc}", where="top") from None
-    except RecursionError:
-        raise BudgetFileError(f"{src}: not valid TOML: nested too deeply", where="top") from None
+    with _part("top"):
+        doc = parse_toml(text, src)
     return read_chain_document(doc, src)
 
 
@@ -236,8 +223,8 @@ def read_chain_document(doc: Mapping[str, Any], src: str) -> ChainFile:
     with _part("top"):
         if not isinstance(doc, Mapping):
             raise BudgetFileError(f"{src}: a chain document must be a table, got {_show(doc)}")
-        r.keys(doc, TOP_KEYS, "top level")
         _check_format(src, doc.get("format"))
+        r.keys(doc, TOP_KEYS, "top level")
         title = r.text(doc, "title", "top level", default="")
         unit = _unit(r, doc, "top level", CONSTANT_UNIT, "m^2/s^2", "a viscometer constant")
         t_min = r.number(doc, "minimum_flow_time", "top level", default=MINIMUM_FLOW_TIME_MANUAL)
@@ -298,28 +285,8 @@ def _readings(r: _Reader, t: Mapping[str, Any], key: str, where: str, name: str)
 def _quantity(
     r: _Reader, spec: Any, where: str, name: str, default_value: float | None = None
 ) -> InputQuantity:
-    """A quantity stated like an input of a budget file (value, unit, one uncertainty form)."""
-    if not isinstance(spec, dict):
-        raise r.fail(
-            where,
-            'must be a table such as { value = ..., unit = "...", standard_uncertainty = ... }, '
-            f"got {_show(spec)}",
-        )
-    r.keys(spec, INPUT_KEYS, where)
-    if default_value is not None and "value" not in spec and "readings" not in spec:
-        spec = {"value": default_value, **spec}
-    form = _form(r, where, spec)
-    unit = r.unit(spec, where)
-    common = {
-        "description": r.text(spec, "description", where, default=""),
-        "source": r.text(spec, "source", where, default=""),
-    }
-    try:
-        return _BUILDERS[form](r, where, name, spec, unit, common)
-    except BudgetFileError:
-        raise
-    except ViscometryError as exc:
-        raise BudgetFileError(f"{r.src}: {where} {exc}") from exc
+    """A quantity stated like an input of a budget file (:func:`read_quantity`)."""
+    return read_quantity(r, spec, where, name, default_value=default_value)
 
 
 def _water(

@@ -51,6 +51,7 @@ __all__ = [
     "loads_budget",
     "parse_toml",
     "read_document",
+    "read_quantity",
     "read_text_file",
 ]
 
@@ -449,26 +450,48 @@ def _form(r: _Reader, where: str, spec: Mapping[str, Any]) -> str:
 
 
 def _input(r: _Reader, name: str, spec: Any) -> InputQuantity:
-    where = f"[inputs.{name}]"
+    return read_quantity(r, spec, f"[inputs.{name}]", name, where=f"inputs.{name}")
+
+
+def read_quantity(
+    r: _Reader,
+    spec: Any,
+    location: str,
+    name: str,
+    *,
+    where: str | None = None,
+    default_value: float | None = None,
+) -> InputQuantity:
+    """A quantity stated like an input of a budget file (value, unit, one uncertainty form),
+    from the table ``spec`` at ``location`` (e.g. ``"[inputs.C]"``; ``where`` names the part
+    for widgets). ``default_value`` stands in for a missing ``value``. Other plain-text formats
+    of the package (step-up chain files) state their quantities the same way."""
     if not isinstance(spec, dict):
-        raise r.fail(where, f"must be a table, got {_show(spec)}")
-    r.keys(spec, INPUT_KEYS, where)
-    form = _form(r, where, spec)
-    unit = r.unit(spec, where)
+        raise r.fail(
+            location,
+            'must be a table such as { value = ..., unit = "...", standard_uncertainty = ... }, '
+            f"got {_show(spec)}",
+        )
+    r.keys(spec, INPUT_KEYS, location)
+    if default_value is not None and "value" not in spec and "readings" not in spec:
+        spec = {"value": default_value, **spec}
+    part = where or _where_of(location)
+    form = _form(r, location, spec)
+    unit = r.unit(spec, location)
     common = {
-        "description": r.text(spec, "description", where, default=""),
-        "source": r.text(spec, "source", where, default=""),
+        "description": r.text(spec, "description", location, default=""),
+        "source": r.text(spec, "source", location, default=""),
     }
     builders = {
         "readings": _readings_input, "expanded_uncertainty": _expanded_input,
         "half_width": _bounded_input, "standard_uncertainty": _standard_input,
     }  # fmt: skip
     try:
-        return builders[form](r, where, name, spec, unit, common)
+        return builders[form](r, location, name, spec, unit, common)
     except BudgetFileError:
         raise
     except ViscometryError as exc:
-        raise BudgetFileError(f"{r.src}: {where} {exc}", where=f"inputs.{name}") from exc
+        raise BudgetFileError(f"{r.src}: {location} {exc}", where=part) from exc
 
 
 def _dof_keys(r: _Reader, where: str, spec: Mapping[str, Any]) -> dict[str, Any]:

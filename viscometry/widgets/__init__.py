@@ -9,6 +9,7 @@ immutable budgets and results.
 from viscometry.widgets.audit_panel import AuditPanel, audit_panel
 from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
 from viscometry.widgets.builder import BudgetBuilder, budget_builder
+from viscometry.widgets.chain_panel import ChainPanel, chain_panel
 from viscometry.widgets.decisions import ConformityPanel, ScorePanel, conformity_panel, score_panel
 from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
 from viscometry.widgets.upgrade_explorer import UpgradeExplorer, upgrade_explorer
@@ -18,12 +19,14 @@ __all__ = [
     "audit_panel",
     "BudgetBuilder",
     "BudgetEditor",
+    "ChainPanel",
     "ConformityPanel",
     "MonteCarloPanel",
     "ScorePanel",
     "UpgradeExplorer",
     "budget_builder",
     "budget_editor",
+    "chain_panel",
     "conformity_panel",
     "monte_carlo_panel",
     "score_panel",
