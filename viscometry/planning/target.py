@@ -124,10 +124,9 @@ def required_uncertainty(budget: Budget, name: str, target_U: float) -> Required
 
     Examples
     --------
-    >>> from viscometry.gum import Budget, InputQuantity
-    >>> b = Budget.from_formula("y", "a + b", [InputQuantity.normal("a", 1.0, 3.0),
-    ...                                        InputQuantity.normal("b", 1.0, 4.0)],
-    ...                         coverage_factor=2.0)
+    >>> from viscometry.gum import Budget, InputQuantity as Q
+    >>> b = Budget.from_formula("y", "a + b", [Q.normal("a", 1.0, 3.0), Q.normal("b", 1.0, 4.0)],
+    ...                         coverage_factor=2.0)  # U = 2·√(3² + u_b²) (exact analytic)
     >>> round(required_uncertainty(b, "b", 8.0).required_uncertainty, 12)
     2.645751311065
     >>> r = required_uncertainty(b, "b", 5.0)

@@ -61,6 +61,7 @@ from viscometry.widgets.fields import (
     controls_column,
     download_link,
     error_html,
+    heading,
     message_label,
     scrolling_html,
     warning_lines,
@@ -704,9 +705,7 @@ def _controls(folder: str, save_path: str, export_folder: str) -> dict[str, Any]
 
 
 def _layout(c: dict[str, Any]) -> widgets.VBox:
-    def h(text: str) -> widgets.HTML:
-        return widgets.HTML(f"<h4 style='margin:0.8em 0 0.2em'>{text}</h4>")
-
+    h = heading
     c["statement_html"].add_class("viscometry-statement")
     c["table_html"].add_class("viscometry-budget-table")
     c["chart"].add_class("viscometry-chart")

@@ -46,10 +46,14 @@ from viscometry.text import (
 from viscometry.widgets.builder_rows import NumberField
 from viscometry.widgets.fields import (
     LABEL_WIDTH,
+    SCROLL_STYLE,
     controls_column,
     error_html,
+    heading,
     message_label,
     parse_readings,
+    scrolling_html,
+    warning_lines,
     wrap_row,
 )
 
@@ -481,11 +485,11 @@ def _warnings_html(panel: ChainPanel) -> str:
             "<span style='color:#060'>checks passed: every flow time at least "
             f"{format_number(t_min)} s, every step within a factor 3</span>"
         )
-    return "".join(f"<div style='color:#a60'>warning: {html.escape(w)}</div>" for w in found)
+    return "<br>".join(warning_lines(found))
 
 
 def _redraw(panel: ChainPanel) -> None:
-    panel.table_html.value = _table_html(panel)
+    panel.table_html.value = SCROLL_STYLE + _table_html(panel)
     panel.statement_html.value = _statement_html(panel)
     panel.warnings_html.value = _warnings_html(panel)
 
@@ -637,14 +641,12 @@ def _controls(path: str) -> dict[str, Any]:
                                                                 align_self="flex-start")),
         "steps_message": message_label(), "general_message": message_label(),
         "statement_html": widgets.HTML(), "warnings_html": widgets.HTML(),
-        "table_html": widgets.HTML(layout=widgets.Layout(width="100%", overflow="auto")),
+        "table_html": scrolling_html(),
     }  # fmt: skip
 
 
 def _layout(c: dict[str, Any]) -> widgets.VBox:
-    def h(text: str) -> widgets.HTML:
-        return widgets.HTML(f"<h4 style='margin:0.8em 0 0.2em'>{text}</h4>")
-
+    h = heading
     c["statement_html"].add_class("viscometry-statement")
     c["table_html"].add_class("viscometry-chain-table")
     therm = [

@@ -26,6 +26,7 @@ __all__ = [
     "controls_column",
     "download_link",
     "error_html",
+    "heading",
     "message_label",
     "number_text",
     "parse_number",
@@ -128,6 +129,11 @@ def warning_lines(warnings: Sequence[str]) -> list[str]:
     return [
         f"<span style='color:{WARNING_COLOUR}'>warning: {html.escape(w)}</span>" for w in warnings
     ]
+
+
+def heading(text: str) -> widgets.HTML:
+    """A small section heading inside a widget (``text`` is escaped)."""
+    return widgets.HTML(f"<h4 style='margin:0.8em 0 0.2em'>{html.escape(text)}</h4>")
 
 
 def wrap_row(children: Sequence[Any], *, gap: str = "0.3em 1.2em") -> widgets.Box:
