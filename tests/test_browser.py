@@ -19,8 +19,8 @@ import pytest
 from browser_harness import (
     CHROMIUM_ARGS,
     WAIT_KERNEL_JS,
-    chromium_path,
     jupyterlab,
+    require_browser,
     run_cells_until,
 )
 
@@ -29,21 +29,6 @@ pytestmark = pytest.mark.browser
 ROOT = Path(__file__).resolve().parents[1]
 WORKBOOK = "02_routine_kinematic_viscosity.ipynb"
 ARTIFACTS = ROOT / "test-artifacts"
-
-
-def _require_browser() -> str:
-    path = chromium_path()
-    try:
-        import playwright.sync_api  # noqa: F401
-    except ImportError:
-        path = None
-    if path is None:
-        if os.environ.get("CI"):
-            pytest.fail(
-                "Chromium or playwright is missing on CI; scripts/bootstrap.sh should install them"
-            )
-        pytest.skip("Chromium/playwright not installed (make test installs them where it can)")
-    return path
 
 
 def _expected_statement(notebook: Path, name: str, new_u: float) -> str:
@@ -75,7 +60,7 @@ def _expected_statement(notebook: Path, name: str, new_u: float) -> str:
 
 
 def test_budget_editor_in_a_real_browser(tmp_path):
-    chromium = _require_browser()
+    chromium = require_browser()
     from playwright.sync_api import sync_playwright
 
     served = tmp_path / "served"

@@ -296,26 +296,9 @@ def test_python_dash_m_help_subprocess():
 SNAKE_CASE = re.compile(r"[a-z][a-z0-9]*(?:_[a-z0-9]+)*")
 
 #: A glass-viscometer budget (built-in model) whose flow time, 149.98 s, is below the minimum.
-GLASS_BUDGET = """format = "viscometry-budget/1"
-title = "short flow time"
-[measurand]
-name = "nu"
-unit = "mm^2/s"
-method = "glass_capillary_kinetic"
-[inputs.C]
-value = 0.10012
-unit = "mm^2/s^2"
-expanded_uncertainty = 0.00018
-coverage_factor = 2
-[inputs.t]
-unit = "s"
-readings = [149.82, 150.11, 149.95, 150.04]
-[inputs.E]
-value = 0.0
-unit = "mm^2*s"
-distribution = "rectangular"
-half_width = 2.0
-"""
+GLASS_BUDGET = (Path(__file__).parent / "data" / "short_flow_time_glass.toml").read_text(
+    encoding="utf-8"
+)
 GLASS_CANDIDATES = """currency = "EUR"
 [[candidate]]
 name = "timer"

@@ -17,6 +17,7 @@ import html
 import math
 import re
 from decimal import ROUND_HALF_EVEN, Decimal
+from pathlib import Path
 
 import ipywidgets as widgets
 import matplotlib
@@ -336,26 +337,9 @@ def test_pareto_shows_correlation_cross_terms() -> None:
 # ------------------------------------------------------------------------ one budget, one path
 #: A glass-viscometer budget (built-in model) whose flow time, 149.98 s, is below the minimum;
 #: the same budget as in tests/test_cli.py, which checks the same warning on every other path.
-GLASS_BUDGET = """format = "viscometry-budget/1"
-title = "short flow time"
-[measurand]
-name = "nu"
-unit = "mm^2/s"
-method = "glass_capillary_kinetic"
-[inputs.C]
-value = 0.10012
-unit = "mm^2/s^2"
-expanded_uncertainty = 0.00018
-coverage_factor = 2
-[inputs.t]
-unit = "s"
-readings = [149.82, 150.11, 149.95, 150.04]
-[inputs.E]
-value = 0.0
-unit = "mm^2*s"
-distribution = "rectangular"
-half_width = 2.0
-"""
+GLASS_BUDGET = (Path(__file__).parent / "data" / "short_flow_time_glass.toml").read_text(
+    encoding="utf-8"
+)
 #: 200 s: minimum flow time of a manually timed glass capillary viscometer, ISO 3104 /
 #: ASTM D445 (from memory); 150 s: the mean of the readings, 599.92/4 = 149.98 s (exact
 #: arithmetic), printed to 4 significant digits.
