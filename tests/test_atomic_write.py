@@ -5,7 +5,9 @@
   can be killed with SIGKILL in the middle of the write. The previous file is then found
   intact (same bytes, still loads, same fingerprint) and the only trace of the killed write
   is a temporary file named ``.<target name>.<random>.tmp`` in the same folder, which is
-  hidden and is not a ``*.toml`` file, so no folder scan takes it for a budget.
+  hidden and is not a ``*.toml`` file, so no folder scan takes it for a budget. For a target
+  name near the file system's limit (255 bytes) the name in it is shortened, so that the
+  temporary name is legal for every legal target name.
 * Every call in the package that writes a file is a call of the atomic helper: the source
   of ``viscometry/`` is searched (syntax tree, so docstrings do not count) for ``open`` in a
   write mode, ``write_text``/``write_bytes``, pandas ``to_csv``/``to_html``/``to_json``/
@@ -161,6 +163,26 @@ def test_killed_report_leaves_previous_report_intact(tmp_path):
     assert [p.name for p in tmp_path.iterdir() if not p.name.startswith(".")] == ["report.html"]
 
 
+def test_killed_write_of_a_255_byte_name_leaves_a_legal_temporary_file(tmp_path):
+    if os.pathconf(tmp_path, "PC_NAME_MAX") != 255:
+        pytest.skip("the file system's NAME_MAX is not 255")
+    name = "r" * 252 + ".md"  # the longest legal name (POSIX NAME_MAX on Linux: 255 bytes)
+    report = tmp_path / name
+    report.write_text("previous\n", encoding="utf-8")
+    _kill_mid_write(
+        f"""
+        from viscometry.cli import main
+        main(["report", {str(EXAMPLE)!r}, "-o", {str(report)!r}])
+        """,
+        tmp_path,
+    )
+    assert report.read_text(encoding="utf-8") == "previous\n"
+    (stray,) = [p for p in tmp_path.iterdir() if p.name != name]
+    m = TEMP_NAME.match(stray.name)
+    assert m and name.startswith(m.group("target")) and len(m.group("target")) > 200
+    assert len(os.fsencode(stray.name)) <= 255
+
+
 def test_large_write_completes_and_replaces(tmp_path):
     """Without a kill, a large write replaces the file completely (no temp file left)."""
     from viscometry.io.atomic import atomic_write_text
@@ -254,9 +276,13 @@ def test_the_helper_itself_is_what_the_writers_call():
     for rel in ("viscometry/io/writer.py", "viscometry/report.py"):
         text = (ROOT / rel).read_text(encoding="utf-8")
         assert "from viscometry.io.atomic import atomic_write_" in text, rel
+    # The temporary file is named .<target>.<random>.tmp in the target's folder (the target
+    # name shortened only where the whole would exceed NAME_MAX).
+    from viscometry.io.atomic import _temporary_prefix
+
+    assert _temporary_prefix("budget.toml", PACKAGE) == ".budget.toml."
     atomic = (PACKAGE / "io" / "atomic.py").read_text(encoding="utf-8")
-    # The temporary file is named .<target>.<random>.tmp in the target's folder.
-    assert 'prefix=f".{target.name}."' in atomic and 'suffix=".tmp"' in atomic
+    assert "tempfile.mkstemp(" in atomic and "dir=directory" in atomic
 
 
 def test_detector_finds_a_bypassing_write(tmp_path):

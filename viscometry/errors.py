@@ -14,6 +14,7 @@ __all__ = [
     "UnitError",
     "CorrelationError",
     "BudgetFileError",
+    "OutputError",
     "ModelError",
     "ViscometryWarning",
     "ValidityWarning",
@@ -62,6 +63,11 @@ class ModelError(ViscometryError, ValueError):
 
 class BudgetFileError(ViscometryError, ValueError):
     """A budget file is malformed; the message names the file, table and key."""
+
+
+class OutputError(ViscometryError, ValueError):
+    """An output path is refused before anything is written: it is an input file itself (also
+    through a link), write-protected, a folder, a device or a pipe, or a dangling link."""
 
 
 class ViscometryWarning(UserWarning):

@@ -660,6 +660,7 @@ def write_report(
     *,
     figures: bool = True,
     overwrite: bool = True,
+    protect: Any = (),
 ) -> Path:
     """Write a report whose format follows the file extension, atomically.
 
@@ -670,11 +671,15 @@ def write_report(
     path : path-like
         Output file ending in ``.html`` (or ``.htm``), ``.md``, ``.tex``, ``.csv`` or
         ``.json``; its directory must exist. An existing file is replaced only once the
-        complete report has been rendered and written.
+        complete report has been rendered and written. A symbolic link is followed (its
+        target is replaced, the link kept).
     figures : bool
         Embed the Pareto chart (HTML only).
     overwrite : bool
         False refuses to replace an existing file.
+    protect : path-like, sequence or mapping
+        Files the report must never replace, such as the budget file it reports on (under
+        any name, also through links); see :func:`viscometry.io.atomic.check_output_path`.
 
     Returns
     -------
@@ -686,6 +691,9 @@ def write_report(
     InputError
         For an unknown extension (naming the path and the allowed extensions), a missing
         directory, or a failed write (the target is then unchanged).
+    OutputError
+        Before rendering, when the path is a protected file, write-protected, in a
+        write-protected folder, not a file (folder, pipe, device) or a dangling link.
 
     Examples
     --------
@@ -697,7 +705,7 @@ def write_report(
     ...     p.read_text().startswith("{")
     True
     """
-    from viscometry.io.atomic import atomic_write_text
+    from viscometry.io.atomic import atomic_write_text, check_output_path
 
     target = Path(path)
     kind = format_for_path(target)
@@ -708,13 +716,19 @@ def write_report(
         )
     if not overwrite and (target.exists() or target.is_symlink()):
         raise InputError(f"report path {str(target)!r} exists already; not replaced")
+    try:
+        check_output_path(target, protect=protect, what="report path")  # before the work
+    except OSError as exc:  # e.g. a name too long for the file system
+        raise _cannot_write(target, exc) from None
     text = render_report(result, kind, figures=figures)
     try:
-        return atomic_write_text(target, text)
+        return atomic_write_text(target, text, protect=protect, what="report path")
     except OSError as exc:
-        raise InputError(
-            f"report path {str(target)!r}: cannot write the file: {exc.strerror or exc}"
-        ) from None
+        raise _cannot_write(target, exc) from None
+
+
+def _cannot_write(target: Path, exc: OSError) -> InputError:
+    return InputError(f"report path {str(target)!r}: cannot write the file: {exc.strerror or exc}")
 
 
 def write_audit_report(
@@ -742,9 +756,13 @@ def write_audit_report(
     ------
     InputError
         When the folder cannot be made or written (the message names it).
+    OutputError
+        When ``audit.html`` or ``audit.csv`` is one of the audited files (also through a
+        link), write-protected, not a file, or a dangling link; or the folder is
+        write-protected.
     """
     from viscometry.audit import audit_table
-    from viscometry.io.atomic import atomic_write_text
+    from viscometry.io.atomic import atomic_write_text, check_output_path
     from viscometry.text import audit_summary, audit_table_html
 
     table = audit_table(verdicts, relative_to=relative_to)
@@ -763,11 +781,15 @@ def write_audit_report(
         "<footer>", *(f"<p>{e(t)}</p>" for t in CAUTIONS), "</footer></body></html>", "",
     ])  # fmt: skip
     target = Path(folder)
+    files = {target / "audit.html": page, target / "audit.csv": table.to_csv(index=False)}
+    audited = {v.path: "an audited file" for v in verdicts}
     try:
         target.mkdir(parents=True, exist_ok=True)
+        for name in files:  # refuse before either file is written
+            check_output_path(name, protect=audited, what="audit record")
         return [
-            atomic_write_text(target / "audit.html", page),
-            atomic_write_text(target / "audit.csv", table.to_csv(index=False)),
+            atomic_write_text(name, text, protect=audited, what="audit record")
+            for name, text in files.items()
         ]
     except OSError as exc:
         raise InputError(

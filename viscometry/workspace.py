@@ -116,6 +116,9 @@ def make_workspace(folder: str | os.PathLike[str]) -> Workspace:
     InputError
         When ``folder`` is a file, or a file cannot be copied into it (the message names
         the folder and, where known, the file).
+    OutputError
+        When a folder of the workspace is write-protected (the mode bits are checked, so
+        this holds for the super-user too; :func:`viscometry.io.atomic.check_output_path`).
     """
     root = Path(folder)
     if root.exists() and not root.is_dir():
@@ -134,7 +137,7 @@ def make_workspace(folder: str | os.PathLike[str]) -> Workspace:
                         differing.append(dest)
                     continue
                 dest.parent.mkdir(parents=True, exist_ok=True)
-                atomic_write_bytes(dest, src.read_bytes())
+                atomic_write_bytes(dest, src.read_bytes(), what="workspace file")
                 copied.append(dest)
     except OSError as exc:
         where = f" {str(exc.filename)!r}" if exc.filename else ""

@@ -292,7 +292,8 @@ def save_budget(
     budget : Budget or BudgetFile
         The budget; a :class:`BudgetFile` also gives its ``[recorded]`` table.
     path : path-like
-        Target file; an existing file is replaced only when the new one is complete.
+        Target file; an existing file is replaced only when the new one is complete. A
+        symbolic link is followed (its target is replaced, the link kept).
     recorded : Recorded, optional
         The ``[recorded]`` table to write (e.g. :func:`recorded_from` of a fresh result).
     overwrite : bool
@@ -307,6 +308,15 @@ def save_budget(
     BudgetFileError
         When the target exists and ``overwrite`` is False, or cannot be written (the message
         names it and the reason).
+    OutputError
+        When the target is write-protected, lies in a write-protected folder, is not a file
+        (folder, pipe, device) or is a dangling symbolic link
+        (:func:`viscometry.io.atomic.check_output_path`); nothing is written.
+
+    Notes
+    -----
+    Saving over the file a budget was loaded from is allowed (with ``overwrite``): that is
+    how an edited budget is kept.
 
     Examples
     --------
@@ -334,6 +344,6 @@ def save_budget(
             f"{target}: exists already; it is replaced only when overwriting is asked for"
         )
     try:
-        return atomic_write_text(target, text)
+        return atomic_write_text(target, text, what="budget file")
     except OSError as exc:
         raise BudgetFileError(f"{target}: cannot write the file: {exc.strerror or exc}") from exc
