@@ -5,23 +5,35 @@ module defines ``NAME`` (the subcommand), ``HELP`` (one line), ``add_arguments(p
 and ``run(args) -> int`` (the exit code). Errors the package raises on purpose
 (:class:`~viscometry.errors.ViscometryError`) are printed as one line,
 ``viscometry: error: <message>``, on standard error with exit code 2; ``--debug`` prints the
-traceback as well. A budget's warnings are part of each command's output (``warning:``
+traceback as well. The line is escaped and cut to a readable length
+(:func:`viscometry.text.message_line`). A budget's warnings are part of each command's output (``warning:``
 lines, or the ``warnings`` list of the JSON); a Python warning of the package raised while a
 command runs (none is expected) would be printed as ``viscometry: warning: <message>`` on
 standard error.
+
+Output is safe for any terminal: every user-supplied text (titles, file names, candidate
+names) is put on one line with control, bidirectional and zero-width characters escaped
+where it is printed, and while a command runs standard output and standard error escape any
+such character that is left (tab and newline excepted). A stream that cannot encode a
+character (an ASCII or Latin-1 terminal, the C locale) gets an ASCII spelling instead of
+an error: ``±`` as ``+/-``, ``°`` as ``deg``, ``∞`` as ``inf``, ``η`` as ``eta``
+(:func:`viscometry.text.ascii_fallback`). The streams are restored when :func:`main` returns.
 """
 
 from __future__ import annotations
 
 import argparse
+import codecs
+import contextlib
 import importlib
 import os
 import pkgutil
 import sys
 import traceback
 import warnings
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from types import ModuleType
+from typing import Any, TextIO
 
 __all__ = ["build_parser", "discover_commands", "main"]
 
@@ -113,7 +125,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     int
         0 success; 1 an audit found a difference; 2 an error.
     """
+    with _safe_streams():
+        return _main(argv)
+
+
+def _main(argv: Sequence[str] | None) -> int:
     from viscometry.errors import ViscometryError, ViscometryWarning
+    from viscometry.text import message_line
 
     parser = build_parser()
     try:
@@ -133,7 +151,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             if debug:
                 traceback.print_exc()
             _report(caught, ViscometryWarning)
-            print(f"{PROG}: error: {_one_line(str(exc))}", file=sys.stderr)
+            print(f"{PROG}: error: {message_line(str(exc))}", file=sys.stderr)
             return 2
         except KeyboardInterrupt:
             print(f"{PROG}: interrupted", file=sys.stderr)
@@ -146,7 +164,7 @@ def main(argv: Sequence[str] | None = None) -> int:
                 traceback.print_exc()
             _report(caught, ViscometryWarning)
             print(
-                f"{PROG}: error: unexpected {type(exc).__name__}: {_one_line(str(exc))} "
+                f"{PROG}: error: unexpected {type(exc).__name__}: {message_line(str(exc))} "
                 f"(run with --debug for the traceback)",
                 file=sys.stderr,
             )
@@ -156,9 +174,11 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def _report(caught: list[warnings.WarningMessage], category: type[Warning]) -> None:
+    from viscometry.text import message_line
+
     seen: set[str] = set()
     for w in caught:
-        text = _one_line(str(w.message))
+        text = message_line(str(w.message))
         if text in seen:
             continue
         seen.add(text)
@@ -176,8 +196,55 @@ def _silence_stdout() -> None:
         pass
 
 
-def _one_line(text: str) -> str:
-    return " ".join(text.split())
+class _EscapingStream:
+    """A text stream that escapes control, bidirectional and zero-width characters (all but
+    tab and newline) before writing them to ``stream``; everything else is passed on."""
+
+    def __init__(self, stream: TextIO) -> None:
+        self._stream = stream
+
+    def write(self, text: str) -> int:
+        from viscometry.text import escape_controls
+
+        return self._stream.write(escape_controls(text))
+
+    def writelines(self, lines: Any) -> None:
+        for line in lines:
+            self.write(line)
+
+    def __getattr__(self, name: str) -> Any:
+        return getattr(self._stream, name)
+
+
+@contextlib.contextmanager
+def _safe_streams() -> Iterator[None]:
+    """Standard output and error escaped and, where they cannot encode a character, spelt
+    in ASCII (:func:`viscometry.text.ascii_fallback`) while a command runs; restored after."""
+    from viscometry.text import ASCII_FALLBACK, ascii_fallback
+
+    codecs.register_error(ASCII_FALLBACK, ascii_fallback)
+    saved: list[tuple[str, Any, str | None]] = []
+    for name in ("stdout", "stderr"):
+        stream = getattr(sys, name)
+        if stream is None:
+            continue
+        errors = getattr(stream, "errors", None)
+        try:
+            stream.reconfigure(errors=ASCII_FALLBACK)
+        except (AttributeError, ValueError, OSError, TypeError):  # not a reconfigurable stream
+            errors = None
+        saved.append((name, stream, errors))
+        setattr(sys, name, _EscapingStream(stream))
+    try:
+        yield
+    finally:
+        for name, stream, errors in saved:
+            current = getattr(sys, name)
+            if isinstance(current, _EscapingStream) and current._stream is stream:
+                setattr(sys, name, stream)
+            if errors is not None:
+                with contextlib.suppress(AttributeError, ValueError, OSError, TypeError):
+                    stream.reconfigure(errors=errors)
 
 
 if __name__ == "__main__":  # pragma: no cover

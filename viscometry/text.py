@@ -21,6 +21,7 @@ from __future__ import annotations
 import html
 import math
 import re
+import unicodedata
 from collections.abc import Sequence
 from decimal import Decimal
 from typing import TYPE_CHECKING
@@ -36,7 +37,13 @@ if TYPE_CHECKING:  # pragma: no cover
     from viscometry.proficiency import Score
 
 __all__ = [
+    "ASCII_FALLBACK",
+    "MESSAGE_LIMIT",
+    "MESSAGE_PIECE",
+    "UNSAFE_CATEGORIES",
     "VERDICT_WORDS",
+    "ascii_fallback",
+    "ascii_spelling",
     "audit_summary",
     "audit_table_html",
     "DOF_NOTE",
@@ -46,6 +53,7 @@ __all__ = [
     "budget_text",
     "decimals_for",
     "decision_statement",
+    "escape_controls",
     "format_cost",
     "format_dof",
     "format_exact_percent",
@@ -55,6 +63,8 @@ __all__ = [
     "format_relative",
     "format_significant",
     "format_unit",
+    "is_unsafe",
+    "message_line",
     "model_line",
     "one_line",
     "per_cost_text",
@@ -303,19 +313,21 @@ def summary_lines(result: BudgetResult) -> list[str]:
     ]
     if _shows_large_dof(result):
         lines.append(f"note: {DOF_NOTE}")
-    lines += [f"warning: {w}" for w in result.warnings]
+    lines += [f"warning: {one_line(w)}" for w in result.warnings]
     return lines
 
 
 def _title(result: BudgetResult) -> str:
-    return result.budget.title or f"Uncertainty budget of {symbol(result.measurand)}"
+    """The budget's title on one line (control characters escaped), or a made-up one."""
+    return one_line(result.budget.title) or f"Uncertainty budget of {symbol(result.measurand)}"
 
 
 def model_line(result: BudgetResult) -> str:
     """``'model: ν = C*t - E/t**2'`` (or the built-in model's name and equation)."""
     budget = result.budget
     model = budget.model
-    text = f"model: {symbol(model.output_name)} = {model.formula or model.expression}"
+    formula = one_line(model.formula or str(model.expression))
+    text = f"model: {symbol(model.output_name)} = {formula}"
     if budget.method is not None:
         text += f"   (built-in model {budget.method.name})"
     return text
@@ -403,38 +415,200 @@ def simulation_lines(sim: BudgetSimulation) -> list[str]:
         f"k = {fo.coverage_factor:.3f}, interval [{f_low:.{dec}f}, {f_high:.{dec}f}]{unit}",
         validation_statement(sim.validation, sim.unit),
     ]
-    return lines + [f"warning: {w}" for w in sim.warnings]
+    return lines + [f"warning: {one_line(w)}" for w in sim.warnings]
 
 
 # ----------------------------------------------------------------------------- terminals
-_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
+#: Unicode categories never printed as they are: controls (C0, DEL, C1), format characters
+#: (bidirectional overrides and isolates, zero-width characters, the byte-order mark, soft
+#: hyphen), line and paragraph separators, and lone surrogates (undecodable bytes of a file
+#: name). Each is shown as an escape: ``\xNN``, ``\uNNNN`` or ``\UNNNNNNNN``.
+UNSAFE_CATEGORIES = frozenset({"Cc", "Cf", "Zl", "Zp", "Cs"})
+#: Name of the codec error handler :func:`ascii_fallback` (registered by the command line).
+ASCII_FALLBACK = "viscometry-ascii"
+#: Pieces of an error or warning line are cut to this many characters, the line to
+#: :data:`MESSAGE_LIMIT` (:func:`message_line`).
+MESSAGE_PIECE = 200
+MESSAGE_LIMIT = 2000
+
+# Every character outside printable ASCII is a candidate; _escape decides by category.
+_CONTROL = re.compile(r"[^\x20-\x7e]")
 
 
-def one_line(text: str, limit: int | None = None) -> str:
-    """Text on one line for a terminal: whitespace folded, control characters shown as
-    ``\\xNN`` escapes (so no file name or title can move the cursor or forge a line), and
-    cut to ``limit`` characters with ``…``.
+def is_unsafe(char: str) -> bool:
+    """True for a character of :data:`UNSAFE_CATEGORIES` (tab and newline included).
+
+    Examples
+    --------
+    >>> [is_unsafe(c) for c in ("a", "η", "\\x1b", "\\u202e", "\\u200b", "\\u2028", "\\n")]
+    [False, False, True, True, True, True, True]
+    """
+    return unicodedata.category(char) in UNSAFE_CATEGORIES
+
+
+def _escape(match: re.Match[str]) -> str:
+    char = match.group()
+    if not is_unsafe(char):
+        return char
+    c = ord(char)
+    if c < 0x100:
+        return f"\\x{c:02x}"
+    return f"\\u{c:04x}" if c < 0x10000 else f"\\U{c:08x}"
+
+
+def _cut_middle(text: str, limit: int) -> str:
+    """``text`` cut to ``limit`` characters by a ``…`` in the middle, its start kept longer."""
+    if len(text) <= limit:
+        return text
+    head = max((2 * limit) // 3, 1)
+    tail = max(limit - head - 1, 0)
+    return text[:head] + "…" + (text[-tail:] if tail else "")
+
+
+def one_line(text: str, limit: int | None = None, *, piece: int | None = None) -> str:
+    """Text on one line for a terminal: whitespace folded, control, format (bidirectional,
+    zero-width) and separator characters shown as escapes (so no file name or title can
+    move the cursor, reorder the line or forge a line), and cut to ``limit`` characters
+    with ``…``.
+
+    Parameters
+    ----------
+    text : str
+    limit : int, optional
+        Length of the whole line; the end is cut off.
+    piece : int, optional
+        Length of each run of non-space characters (a 900 000-character key or value); the
+        middle of a longer run is cut, so its start and end stay readable.
 
     Examples
     --------
     >>> one_line("a\\r\\nMATCH  b\\x1b[2J")
     'a MATCH b\\\\x1b[2J'
+    >>> one_line("ok \\u202eKO\\u200b")
+    'ok \\\\u202eKO\\\\u200b'
+    >>> one_line("key " + "k" * 30 + " end", piece=10)
+    'key kkkkkk…kkk end'
     """
-    folded = " ".join(str(text).split())
-    safe = _CONTROL.sub(_escape, folded)
+    words = str(text).split()
+    if piece is not None:
+        words = [_cut_middle(w, piece) for w in words]
+    safe = _CONTROL.sub(_escape, " ".join(words))
     if limit is not None and len(safe) > limit:
         return safe[: max(limit - 1, 0)] + "…"
     return safe
 
 
-def _escape(match: re.Match[str]) -> str:
-    c = ord(match.group())
-    return f"\\x{c:02x}" if c < 0x100 else f"\\u{c:04x}"
+def message_line(text: str) -> str:
+    """An error or warning message as one escaped line of readable length: each run of
+    non-space characters at most :data:`MESSAGE_PIECE` characters, the line at most
+    :data:`MESSAGE_LIMIT` (the start, which names the file and key, is kept).
+
+    Examples
+    --------
+    >>> line = message_line("f.toml: [inputs." + "k" * 900_000 + "] too long")
+    >>> len(line) < 300, line.startswith("f.toml: [inputs.kkk"), line.endswith("] too long")
+    (True, True, True)
+    """
+    return one_line(text, MESSAGE_LIMIT, piece=MESSAGE_PIECE)
+
+
+def escape_controls(text: str, keep: str = "\n\t") -> str:
+    """``text`` with every unsafe character (see :data:`UNSAFE_CATEGORIES`) escaped except
+    those in ``keep``; the last line of defence of the command line's output streams.
+
+    Examples
+    --------
+    >>> escape_controls("a\\tb\\n\\x1b[2J\\r\\u2066")
+    'a\\tb\\n\\\\x1b[2J\\\\x0d\\\\u2066'
+    """
+    if not keep:
+        return _CONTROL.sub(_escape, text)
+    return _CONTROL.sub(lambda m: m.group() if m.group() in keep else _escape(m), text)
 
 
 def join_lines(lines: Sequence[str]) -> str:
     """Lines joined by newlines (each made safe with :func:`one_line`)."""
     return "\n".join(one_line(line) for line in lines)
+
+
+# ASCII spellings for output streams that cannot encode a character (a C locale, an ASCII
+# or Latin-1 terminal); unicodedata names give the other Greek letters.
+_SPELLINGS = {
+    "±": "+/-", "°": "deg", "∞": "inf", "µ": "u", "μ": "u", "·": "*", "⋅": "*", "•": "*",
+    "×": "x", "≈": "~", "≃": "~", "≲": "<~", "≳": ">~", "∝": "~", "≥": ">=", "≤": "<=",
+    "≠": "!=", "≪": "<<", "≫": ">>", "—": "-", "–": "-", "−": "-", "‐": "-", "‑": "-",
+    "…": "...", "′": "'", "″": "''", "‘": "'", "’": "'", "“": '"', "”": '"', "«": '"',
+    "»": '"', "√": "sqrt", "∑": "sum", "∂": "d", "→": "->", "←": "<-", "↔": "<->",
+    "✓": "ok", "✗": "x", "½": "1/2", "¼": "1/4", "¾": "3/4", "€": "EUR", "£": "GBP",
+    "℃": "degC", "Ω": "Ohm", "Å": "Angstrom", "ℓ": "l", "§": "S.", "\u00a0": " ",
+    "\u202f": " ", "\u2009": " ", "⌊": "floor(", "⌋": ")", "⌈": "ceil(", "⌉": ")",
+}  # fmt: skip
+_SUPERSCRIPTS = dict(zip("⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻⁼⁽⁾ⁿⁱ", "0123456789+-=()ni", strict=True))
+_SUBSCRIPTS = dict(zip("₀₁₂₃₄₅₆₇₈₉₊₋₌₍₎ᵢⱼₙₖₘₓ", "0123456789+-=()ijnkmx", strict=True))
+
+
+def _spell(char: str) -> str:
+    if char in _SPELLINGS:
+        return _SPELLINGS[char]
+    name = unicodedata.name(char, "")
+    for case, prefix in ((str.lower, "GREEK SMALL LETTER "), (str.title, "GREEK CAPITAL LETTER ")):
+        letter = name.removeprefix(prefix)
+        if letter != name and letter.isalpha() and " " not in letter:
+            return case(letter)
+    c = ord(char)
+    if c < 0x100:
+        return f"\\x{c:02x}"
+    return f"\\u{c:04x}" if c < 0x10000 else f"\\U{c:08x}"
+
+
+def ascii_spelling(text: str) -> str:
+    """``text`` in ASCII: ``±`` → ``+/-``, ``°`` → ``deg``, ``∞`` → ``inf``, Greek letters by
+    name (``η`` → ``eta``), ``µ`` → ``u``, ``·`` → ``*``, ``≤`` → ``<=``, superscripts as
+    ``^`` and subscripts as ``_`` (``m⁻¹`` → ``m^-1``), anything else as an escape.
+
+    Examples
+    --------
+    >>> ascii_spelling("η = (1.0016 ± 0.0013) mPa·s at 20 °C, ν_eff = ∞, m⁻¹, x₁")
+    'eta = (1.0016 +/- 0.0013) mPa*s at 20 degC, nu_eff = inf, m^-1, x_1'
+    """
+    out: list[str] = []
+    i = 0
+    while i < len(text):
+        char = text[i]
+        for table, mark in ((_SUPERSCRIPTS, "^"), (_SUBSCRIPTS, "_")):
+            if char in table:
+                j = i
+                while j < len(text) and text[j] in table:
+                    j += 1
+                out.append(mark + "".join(table[c] for c in text[i:j]))
+                i = j
+                break
+        else:
+            out.append(char if char < "\x80" else _spell(char))
+            i += 1
+    return "".join(out)
+
+
+def ascii_fallback(error: UnicodeError) -> tuple[str, int]:
+    """Codec error handler (registered as :data:`ASCII_FALLBACK`): the characters a stream
+    cannot encode, written as :func:`ascii_spelling` does (superscripts that follow are
+    taken along, so ``m⁻¹`` becomes ``m^-1`` on a Latin-1 terminal too).
+
+    Examples
+    --------
+    >>> import codecs
+    >>> codecs.register_error(ASCII_FALLBACK, ascii_fallback)
+    >>> "ν = 1.5 mm²/s ± 2 % at ∞".encode("latin-1", ASCII_FALLBACK)
+    b'nu = 1.5 mm\\xb2/s \\xb1 2 % at inf'
+    """
+    if not isinstance(error, UnicodeEncodeError):
+        raise error
+    text, start, end = error.object, error.start, error.end
+    for table in (_SUPERSCRIPTS, _SUBSCRIPTS):
+        if text[end - 1] in table:
+            while end < len(text) and text[end] in table:
+                end += 1
+    return ascii_spelling(text[start:end]), end
 
 
 # ----------------------------------------------------------------------------- planning

@@ -11,7 +11,7 @@ from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.budget import BudgetResult
 from viscometry.io.reader import BudgetFile, load_budget
 
-__all__ = ["evaluate_file", "located", "print_json", "provenance_lines"]
+__all__ = ["evaluate_file", "json_text", "located", "print_json", "provenance_lines"]
 
 
 def located(bf: BudgetFile, exc: ViscometryError) -> ViscometryError:
@@ -42,10 +42,24 @@ def provenance_lines(bf: BudgetFile) -> list[str]:
     ]
 
 
-def print_json(obj: dict[str, Any], *, source: str | None = None) -> None:
-    """Print one JSON object (with ``source`` when given) on standard output."""
+def json_text(obj: Any) -> str:
+    """Exact JSON text of ``obj`` that standard output can encode: non-ASCII characters are
+    written as ``\\uXXXX`` escapes when it cannot (an ASCII terminal, the C locale)."""
+    import sys
+
     from viscometry.io.json_out import dumps
 
+    text = dumps(obj)
+    try:
+        text.encode(getattr(sys.stdout, "encoding", None) or "utf-8")
+    except (UnicodeEncodeError, LookupError):
+        return dumps(obj, ascii_only=True)
+    return text
+
+
+def print_json(obj: dict[str, Any], *, source: str | None = None) -> None:
+    """Print one JSON object (with ``source`` when given) on standard output, exact whatever
+    the terminal (:func:`json_text`)."""
     if source is not None:
         obj = {**obj, "source": source}
-    print(dumps(obj))
+    print(json_text(obj))

@@ -51,9 +51,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Decide and print the verdict (or JSON). Returns 0 whatever the verdict."""
+    from viscometry.commands._common import json_text
     from viscometry.conformity import DECISION_CAUTION, decide
     from viscometry.errors import InputError
-    from viscometry.io.json_out import dumps, schema
+    from viscometry.io.json_out import schema
     from viscometry.text import decision_statement, unit_label
 
     unit = args.unit
@@ -99,7 +100,7 @@ def run(args: argparse.Namespace) -> int:
             **{key: getattr(d, key) for key in d.__dataclass_fields__},
         }
         out.update(unit=unit, statement=decision_statement(d, unit), caution=DECISION_CAUTION)
-        print(dumps(out))
+        print(json_text(out))
         return 0
     lbl = f" {unit_label(unit)}" if unit else ""
     lo = "—" if d.lower is None else f"{d.lower:g}"

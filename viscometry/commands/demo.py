@@ -43,7 +43,7 @@ def run(args: argparse.Namespace) -> int:
     """
     from viscometry.errors import InputError, ViscometryError
     from viscometry.io.reader import is_budget_file, load_budget
-    from viscometry.text import budget_text, one_line, statement
+    from viscometry.text import budget_text, message_line, one_line, statement
 
     folder = Path(args.folder) if args.folder else default_folder()
     if not folder.is_dir():
@@ -53,13 +53,13 @@ def run(args: argparse.Namespace) -> int:
         )
     candidates = sorted(folder.rglob("*.toml"))
     files = [f for f in candidates if is_budget_file(f)]
-    skipped = [f.relative_to(folder).as_posix() for f in candidates if f not in files]
+    skipped = [one_line(f.relative_to(folder).as_posix()) for f in candidates if f not in files]
     if not files:
         raise InputError(f"no budget files (*.toml) found under {folder}")
     summary: list[str] = []
     failed = 0
     for i, path in enumerate(files):
-        label = path.relative_to(folder).as_posix()
+        label = one_line(path.relative_to(folder).as_posix())
         if i:
             print()
         print(f"=== {label} " + "=" * max(3, 76 - len(label)))
@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
             result = bf.budget.evaluate()
         except ViscometryError as exc:
             failed += 1
-            print(f"error: {one_line(str(exc))}")
+            print(f"error: {message_line(str(exc))}")
             summary.append(f"{label}: error")
             continue
         print(budget_text(result))

@@ -69,9 +69,9 @@ def render_text(method: Method, full: bool = False) -> str:
 
 
 def _dumps(obj: Any) -> str:
-    from viscometry.io.json_out import dumps
+    from viscometry.commands._common import json_text
 
-    return dumps(obj)
+    return json_text(obj)
 
 
 def _with_schema(obj: dict[str, Any]) -> dict[str, Any]:

@@ -126,7 +126,7 @@ def _print(plan: Any, needs: Any, currency: str, args: argparse.Namespace) -> No
         unit_suffix,
     )
 
-    unit, cur = unit_suffix(plan.unit), f" {currency}" if currency else ""
+    unit, cur = unit_suffix(plan.unit), f" {one_line(currency, 40)}" if currency else ""
     print(f"baseline: {statement(plan.baseline)}")
     print(f"{len(plan.candidates)} candidates, {len(plan.options)} sets evaluated ({plan.search})")
     ids = {c.name: str(i) for i, c in enumerate(plan.candidates, start=1)}

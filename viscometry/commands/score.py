@@ -53,8 +53,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     """Compute and print the score (or JSON). Returns 0 whatever the classification."""
     from viscometry import proficiency as pt
+    from viscometry.commands._common import json_text
     from viscometry.errors import InputError
-    from viscometry.io.json_out import dumps, schema
+    from viscometry.io.json_out import schema
     from viscometry.text import score_statement
 
     need = _NEEDS[args.kind]
@@ -84,7 +85,7 @@ def run(args: argparse.Namespace) -> int:
         out = {"schema": schema("score"), "kind": s.kind, "value": s.value,
                "classification": s.classification, "statement": score_statement(s),
                "inputs": {n: getattr(a, n) for n in need}}  # fmt: skip
-        print(dumps(out))
+        print(json_text(out))
         return 0
     print(score_statement(s))
     return 0

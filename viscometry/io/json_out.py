@@ -4,13 +4,18 @@
 (:data:`RESULT_KEYS`, and :data:`INPUT_KEYS` for each budget row). Values of the measurand
 are in the measurand's unit, input values in their own units. :func:`dumps` writes strict
 JSON: an infinite number becomes the string ``"inf"`` (``"-inf"``) and NaN becomes ``null``,
-since JSON has no such numbers.
+since JSON has no such numbers. Text stays exact: control, bidirectional and zero-width
+characters and lone surrogates inside strings are written as ``\\uXXXX`` escapes (so the JSON
+is safe to show on a terminal and decodes to the original strings), other characters as
+they are, or all non-ASCII ones as escapes with ``ascii_only``.
 """
 
 from __future__ import annotations
 
 import json
 import math
+import re
+import unicodedata
 from collections.abc import Mapping
 from typing import TYPE_CHECKING, Any
 
@@ -131,12 +136,41 @@ def _strict(obj: Any) -> Any:
     return obj
 
 
-def dumps(obj: Any, *, indent: int | None = 2) -> str:
+# Characters json.dumps(ensure_ascii=False) leaves raw that a terminal would act on: C1
+# controls, format characters (bidirectional, zero-width), separators, lone surrogates. They
+# can only occur inside JSON strings, so escaping them keeps the JSON exact.
+_UNSAFE = re.compile(r"[^\x00-\x7e]")
+_UNSAFE_CATEGORIES = frozenset({"Cc", "Cf", "Zl", "Zp", "Cs"})
+
+
+def _escape(match: re.Match[str]) -> str:
+    char = match.group()
+    if unicodedata.category(char) not in _UNSAFE_CATEGORIES:
+        return char
+    c = ord(char)
+    if c > 0xFFFF:  # a UTF-16 surrogate pair, as JSON writes it
+        c -= 0x10000
+        return f"\\u{0xD800 + (c >> 10):04x}\\u{0xDC00 + (c & 0x3FF):04x}"
+    return f"\\u{c:04x}"
+
+
+def dumps(obj: Any, *, indent: int | None = 2, ascii_only: bool = False) -> str:
     """Strict JSON text: ``inf`` → ``"inf"``, ``-inf`` → ``"-inf"``, NaN → ``null``.
+
+    Control, bidirectional and zero-width characters in strings are escaped (``\\u202e``);
+    with ``ascii_only`` every non-ASCII character is (for a stream that cannot encode it).
+    Either way ``json.loads`` gives back the same strings.
 
     Examples
     --------
     >>> dumps({"dof": float("inf"), "r": float("nan"), "x": 1.5}, indent=None)
     '{"dof": "inf", "r": null, "x": 1.5}'
+    >>> print(dumps(["η ± 1", "\\u202eKO\\x85"], indent=None))
+    ["η ± 1", "\\u202eKO\\u0085"]
+    >>> print(dumps(["η ± 1"], indent=None, ascii_only=True))
+    ["\\u03b7 \\u00b1 1"]
     """
-    return json.dumps(_strict(jsonable(obj)), indent=indent, ensure_ascii=False, allow_nan=False)
+    text = json.dumps(
+        _strict(jsonable(obj)), indent=indent, ensure_ascii=ascii_only, allow_nan=False
+    )
+    return text if ascii_only else _UNSAFE.sub(_escape, text)
