@@ -115,7 +115,7 @@ def check_output_path(
         except OSError:
             raise OutputError(
                 f"{what} {shown} is a symbolic link to {os.readlink(given)!r}, which does not "
-                "lead to an existing file; refusing to follow it"
+                "lead to an existing file (missing, or a loop of links); refusing to follow it"
             ) from None
         shown += f" (a symbolic link to {str(final)!r})"
     for test, kind in _NOT_FILES:
