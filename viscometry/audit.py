@@ -155,7 +155,9 @@ def audit_file(path: PathLike) -> AuditVerdict:
             higher_order=rec is not None and rec.propagation == "higher-order"
         )
     except ViscometryError as exc:
-        return AuditVerdict(label, "error", (one_line(str(exc)).removeprefix(f"{label}: "),))
+        return AuditVerdict(
+            label, "error", (one_line(str(exc)).removeprefix(f"{one_line(label)}: "),)
+        )
     recomputed: dict[str, Any] = {
         "value": result.value, "expanded_uncertainty": result.expanded_uncertainty,
         "coverage_factor": result.coverage_factor, "propagation": result.propagation,
