@@ -7,6 +7,7 @@ modified copy (in a temporary folder, never in examples/) is caught.
 
 from __future__ import annotations
 
+import os
 import shutil
 from pathlib import Path
 
@@ -14,13 +15,16 @@ import pytest
 
 from viscometry.audit import (
     AUDIT_COLUMNS,
+    SKIP_KINDS,
     VERDICTS,
     audit_file,
     audit_paths,
     audit_table,
+    classify_toml,
     collect_files,
     exit_code,
     fingerprint_status,
+    run_audit,
 )
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -134,3 +138,304 @@ def test_collect_files_reports_folders_without_budget_files(tmp_path: Path) -> N
     assert v.path == str(tmp_path) and v.status == "error"
     assert "no budget files" in v.messages[0]
     assert exit_code(empty_folders) == 2 and exit_code([]) == 2
+
+
+# ------------------------------------------------------------ folder searches leave nothing out
+# Expected reasons and messages are this package's own wording (no external source).
+CANDIDATES = EXAMPLES / "upgrades" / "pressure_capillary_upgrades.toml"
+CHAIN = EXAMPLES / "chains" / "ashcombe_step_up_chain.toml"
+
+
+def _damage(kind: str) -> bytes:
+    """A copy of the primary budget, damaged the way ``kind`` says."""
+    text = PRIMARY.read_text(encoding="utf-8")
+    lines = text.splitlines(keepends=True)
+    if kind == "empty":
+        return b""
+    if kind == "comments":
+        return "".join("# " + line for line in lines).encode("utf-8")
+    if kind == "format_removed":
+        return "".join(line for line in lines if not line.startswith("format")).encode("utf-8")
+    if kind == "truncated":  # cut inside the model formula's string
+        return text[: text.index("model = ") + 14].encode("utf-8")
+    if kind == "bom":
+        return b"\xef\xbb\xbf" + text.encode("utf-8")
+    if kind == "latin1":
+        return text.encode("latin-1", errors="replace")  # "°" becomes the byte 0xb0
+    raise AssertionError(kind)
+
+
+DAMAGE = ["empty", "comments", "format_removed", "truncated", "bom", "latin1"]
+
+
+def _folder_with(tmp_path: Path, **extra: bytes) -> Path:
+    folder = tmp_path / "budgets"
+    folder.mkdir()
+    shutil.copy(PRIMARY, folder / PRIMARY.name)
+    for name, data in extra.items():
+        (folder / name).write_bytes(data)
+    return folder
+
+
+@pytest.mark.parametrize("kind", DAMAGE)
+def test_a_damaged_budget_file_in_a_folder_makes_the_audit_fail(tmp_path, kind, capsys) -> None:
+    from viscometry.cli import main
+
+    folder = _folder_with(tmp_path, **{"damaged.toml": _damage(kind)})
+    run = run_audit([folder])
+    statuses = {Path(v.path).name: v.status for v in run.verdicts}
+    assert statuses == {"damaged.toml": "error", PRIMARY.name: "match"}
+    assert run.skipped == () and run.exit_code() == 2
+    (bad,) = (v for v in run.verdicts if v.status == "error")
+    assert "counted as a damaged budget file" in bad.messages[-1]
+    assert main(["audit", str(folder)]) == 2
+    out = capsys.readouterr().out.splitlines()
+    assert any(line.startswith("ERROR") and "damaged.toml" in line for line in out)
+    assert out[-1] == "2 file(s): 1 match, 1 error"
+
+
+@pytest.mark.parametrize("kind", DAMAGE)
+def test_skip_damaged_lists_the_file_as_skipped(tmp_path, kind, capsys) -> None:
+    from viscometry.cli import main
+
+    folder = _folder_with(tmp_path, **{"damaged.toml": _damage(kind)})
+    run = run_audit([folder], skip_damaged=True)
+    assert [(Path(v.path).name, v.status) for v in run.verdicts] == [(PRIMARY.name, "match")]
+    (skip,) = run.skipped
+    assert (Path(skip.path).name, skip.kind) == ("damaged.toml", "damaged")
+    assert skip.reason.startswith("damaged, skipped as asked: ")
+    assert run.exit_code() == 0 and run.counts()["skipped"] == 1
+    assert main(["audit", "--skip-damaged", str(folder)]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[0].startswith("MATCH")
+    assert out[1].startswith("SKIP") and "damaged.toml: damaged, skipped as asked" in out[1]
+    assert out[-1] == "1 file(s): 1 match; 1 skipped (listed above, not audited)"
+
+
+def test_reasons_name_the_damage(tmp_path) -> None:
+    reasons = {}
+    for kind in DAMAGE:
+        path = tmp_path / f"{kind}.toml"
+        path.write_bytes(_damage(kind))
+        reasons[kind] = classify_toml(path)
+    assert all(k == "damaged" for k, _ in reasons.values())
+    assert (
+        reasons["empty"][1]
+        == reasons["comments"][1]
+        == "empty (nothing but comments or blank lines)"
+    )
+    assert (
+        "[inputs], [measurand], [recorded] (lost its format line?)" in reasons["format_removed"][1]
+    )
+    assert "Unterminated string" in reasons["truncated"][1]
+    assert "byte-order mark" in reasons["bom"][1]
+    assert "not UTF-8" in reasons["latin1"][1]
+
+
+def test_a_file_that_says_it_is_a_budget_is_always_audited(tmp_path) -> None:
+    # a budget cut off after its [measurand] table still has its format line, and a later
+    # format version is a budget this version cannot read: errors even with skip_damaged
+    text = PRIMARY.read_text(encoding="utf-8")
+    folder = _folder_with(
+        tmp_path,
+        **{
+            "cut.toml": text[: text.index("[inputs")].encode("utf-8"),
+            "later.toml": text.replace("viscometry-budget/1", "viscometry-budget/2").encode(),
+        },
+    )
+    run = run_audit([folder], skip_damaged=True)
+    statuses = {Path(v.path).name: v.status for v in run.verdicts}
+    assert statuses == {"cut.toml": "error", "later.toml": "error", PRIMARY.name: "match"}
+    assert run.skipped == () and run.exit_code() == 2
+
+
+def test_a_file_named_explicitly_is_never_skipped(tmp_path) -> None:
+    empty = tmp_path / "empty.toml"
+    empty.write_bytes(b"")
+    hidden = tmp_path / ".hidden.toml"
+    shutil.copy(PRIMARY, hidden)
+    run = run_audit([empty, hidden, CHAIN], skip_damaged=True)
+    assert [v.status for v in run.verdicts] == ["error", "match", "error"]
+    assert run.skipped == ()
+
+
+def test_other_kinds_of_toml_are_skipped_with_their_reason(tmp_path, capsys) -> None:
+    from viscometry.cli import main
+
+    folder = _folder_with(
+        tmp_path,
+        **{
+            "candidates.toml": CANDIDATES.read_bytes(),
+            "chain.toml": CHAIN.read_bytes(),
+            "pyproject.toml": (ROOT / "pyproject.toml").read_bytes(),
+            "settings.toml": b'title = "not a budget"\n[colours]\nmatch = "green"\n',
+            "other_tool.toml": b'format = "another-tool/3"\n',
+        },
+    )
+    run = run_audit([folder])
+    assert [(Path(v.path).name, v.status) for v in run.verdicts] == [(PRIMARY.name, "match")]
+    reasons = {Path(s.path).name: (s.kind, s.reason) for s in run.skipped}
+    assert reasons == {
+        "candidates.toml": ("other", "not a budget file (a list of upgrade candidates)"),
+        "chain.toml": (
+            "other",
+            "not a budget file (a step-up chain file, format = 'viscometry-chain/1')",
+        ),
+        "other_tool.toml": ("other", "not a budget file (format = 'another-tool/3')"),
+        "pyproject.toml": ("other", "not a budget file (a Python project file)"),
+        "settings.toml": (
+            "other",
+            "not a budget file (no format key and no budget table; keys 'colours', 'title')",
+        ),
+    }
+    assert [s.path for s in run.skipped] == sorted(s.path for s in run.skipped)
+    assert run.exit_code() == 0  # skipped files do not change the exit code
+    assert main(["audit", str(folder)]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert len(out) == 1 + 5 + 1
+    assert out[1] == f"SKIP   {folder / 'candidates.toml'}: " + reasons["candidates.toml"][1]
+    assert out[-1] == "1 file(s): 1 match; 5 skipped (listed above, not audited)"
+
+
+def test_the_examples_list_their_two_other_files_as_skipped() -> None:
+    run = run_audit([EXAMPLES])
+    assert {(Path(s.path).resolve(), s.kind) for s in run.skipped} == {
+        (CANDIDATES.resolve(), "other"),
+        (CHAIN.resolve(), "other"),
+    }
+
+
+def test_names_hidden_folders_and_backups(tmp_path) -> None:
+    folder = _folder_with(tmp_path)
+    for hidden in (".git", ".ipynb_checkpoints"):
+        (folder / hidden).mkdir()
+        shutil.copy(PRIMARY, folder / hidden / "copy.toml")
+    shutil.copy(PRIMARY, folder / "UPPER.TOML")  # audited: the ending in any case
+    for name in ("backup.toml~", "backup.toml.bak"):
+        shutil.copy(PRIMARY, folder / name)
+    (folder / ".budget.toml.x1y2.tmp").write_bytes(b"partial")  # an interrupted write: ignored
+    (folder / "notes.txt").write_text("not TOML", encoding="utf-8")  # no TOML name: ignored
+    run = run_audit([folder])
+    assert sorted(Path(v.path).name for v in run.verdicts) == sorted([PRIMARY.name, "UPPER.TOML"])
+    assert [(Path(s.path).name, s.kind, s.reason) for s in run.skipped] == [
+        (".git", "hidden", "hidden folder, not searched (name it to audit it)"),
+        (".ipynb_checkpoints", "hidden", "hidden folder, not searched (name it to audit it)"),
+        ("backup.toml.bak", "name", "name does not end in .toml (a backup copy?)"),
+        ("backup.toml~", "name", "name does not end in .toml (a backup copy?)"),
+    ]
+
+
+def test_fifo_and_link_to_a_device_are_errors_without_blocking(tmp_path) -> None:
+    # run in a child process with a generous limit, so that a reader which opened the FIFO
+    # (and blocked) or read /dev/zero (without end) fails the test instead of hanging it
+    import json
+    import subprocess
+    import sys
+
+    folder = _folder_with(tmp_path)
+    os.mkfifo(folder / "pipe.toml")
+    (folder / "zeros.toml").symlink_to("/dev/zero")
+    (folder / "pipe_link.toml").symlink_to(folder / "pipe.toml")
+    proc = subprocess.run(
+        [sys.executable, "-m", "viscometry", "audit", "--json", str(folder)],
+        capture_output=True, text=True, timeout=120, check=False,
+    )  # fmt: skip
+    assert proc.returncode == 2, proc.stderr
+    d = json.loads(proc.stdout)
+    errors = {
+        Path(v["path"]).name: v["messages"][0] for v in d["verdicts"] if v["status"] == "error"
+    }
+    assert set(errors) == {"pipe.toml", "pipe_link.toml", "zeros.toml"}
+    assert all("is not a regular file" in m for m in errors.values())
+    assert d["skipped"] == [] and d["exit_code"] == 2
+
+
+def test_symbolic_links_to_folders_are_listed_never_followed(tmp_path) -> None:
+    folder = _folder_with(tmp_path)
+    (folder / "a").mkdir()
+    (folder / "b").mkdir()
+    shutil.copy(PRIMARY, folder / "b" / "in_b.toml")
+    (folder / "a" / "to_b").symlink_to("../b")  # a loop through two links
+    (folder / "b" / "to_a").symlink_to("../a")
+    (folder / "a" / "up").symlink_to("..")  # a link back to the folder above
+    (folder / "self").symlink_to("self")  # a link to itself
+    (folder / "gone").symlink_to("does-not-exist")
+    (folder / "self.toml").symlink_to("self.toml")  # named like a budget: an error
+    outside = tmp_path / "outside"
+    outside.mkdir()
+    shutil.copy(PRIMARY, outside / "elsewhere.toml")
+    (folder / "out").symlink_to(outside)
+    run = run_audit([folder])  # terminates: no link to a folder is followed
+    statuses = {Path(v.path).relative_to(folder).as_posix(): v.status for v in run.verdicts}
+    assert statuses == {PRIMARY.name: "match", "b/in_b.toml": "match", "self.toml": "error"}
+    reasons = {Path(s.path).relative_to(folder).as_posix(): s.reason for s in run.skipped}
+    assert set(reasons) == {"a/to_b", "a/up", "b/to_a", "gone", "out", "self"}
+    assert {s.kind for s in run.skipped} == {"link"}
+    assert reasons["a/up"].startswith("symbolic link loop: leads back to the folder")
+    assert "inside the search, not followed" in reasons["a/to_b"]
+    assert reasons["out"].endswith("outside the search, not followed (name it to audit it)")
+    assert reasons["self"].startswith("symbolic link that leads nowhere")
+    assert reasons["gone"].startswith("symbolic link that leads nowhere")
+    assert run.exit_code() == 2
+
+
+def test_an_unreadable_file_is_an_error(tmp_path, monkeypatch) -> None:
+    # as root, chmod 000 does not stop reading: refuse the open as the system would
+    folder = _folder_with(tmp_path)
+    locked = folder / "locked.toml"
+    shutil.copy(PRIMARY, locked)
+    real_open = Path.open
+
+    def refusing_open(self, *args, **kwargs):  # type: ignore[no-untyped-def]
+        if self.name == "locked.toml":
+            raise PermissionError(13, "Permission denied", str(self))
+        return real_open(self, *args, **kwargs)
+
+    monkeypatch.setattr(Path, "open", refusing_open)
+    run = run_audit([folder])
+    (v,) = (v for v in run.verdicts if Path(v.path).name == "locked.toml")
+    assert v.status == "error" and "cannot read the file: Permission denied" in v.messages[0]
+    assert run.exit_code() == 2
+
+
+def test_the_search_is_bounded(tmp_path, monkeypatch) -> None:
+    import viscometry.audit as audit
+
+    folder = _folder_with(tmp_path)
+    for i in range(6):
+        (folder / f"note{i}.txt").write_text("x", encoding="utf-8")
+    monkeypatch.setattr(audit, "MAX_SCAN_ENTRIES", 5)
+    run = run_audit([folder])
+    (v,) = run.verdicts
+    assert v.status == "error" and v.path == str(folder)
+    assert v.messages == ("more than 5 entries below this folder; audit smaller folders",)
+
+
+def test_json_carries_the_skipped_list(tmp_path, capsys) -> None:
+    import json
+
+    from viscometry.cli import main
+
+    folder = _folder_with(tmp_path, **{"chain.toml": CHAIN.read_bytes(), "emptied.toml": b""})
+    assert main(["audit", "--json", "--skip-damaged", str(folder)]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert [v["status"] for v in d["verdicts"]] == ["match"] and d["exit_code"] == 0
+    assert d["skipped"] == [
+        {"path": str(folder / "chain.toml"), "kind": "other",
+         "reason": "not a budget file (a step-up chain file, format = 'viscometry-chain/1')"},
+        {"path": str(folder / "emptied.toml"), "kind": "damaged",
+         "reason": "damaged, skipped as asked: empty (nothing but comments or blank lines)"},
+    ]  # fmt: skip
+    assert {s["kind"] for s in d["skipped"]} <= set(SKIP_KINDS)
+
+
+def test_the_table_shows_skipped_files(tmp_path) -> None:
+    folder = _folder_with(tmp_path, **{"chain.toml": CHAIN.read_bytes()})
+    (folder / ".ipynb_checkpoints").mkdir()
+    run = run_audit([folder])
+    table = audit_table(run.verdicts, relative_to=folder, skipped=run.skipped)
+    assert list(table["file"]) == [PRIMARY.name, ".ipynb_checkpoints", "chain.toml"]
+    assert list(table["verdict"]) == ["match", "skipped", "skipped"]
+    row = table.iloc[2]
+    assert (row["recorded"], row["recomputed"], row["fingerprint"]) == ("—", "—", "—")
+    assert row["detail"].startswith("not a budget file (a step-up chain file")

@@ -10,10 +10,32 @@ fingerprint of the budget the file describes now (:attr:`viscometry.gum.Budget.f
 if it does not, the budget changed after the result was recorded.
 
 Verdicts (:data:`VERDICTS`): ``match``, ``differs``, ``unrecorded`` (no ``[recorded]`` table:
-nothing to confirm) and ``error`` (the file cannot be read or evaluated). When a folder is
-scanned, TOML files of another kind (lists of upgrade candidates) are skipped; a file named
-explicitly is always audited, and an emptied or broken budget file is reported as an error.
-The ``viscometry audit`` command and workbook 06 are thin layers over this module.
+nothing to confirm) and ``error`` (the file cannot be read or evaluated). The ``viscometry
+audit`` command and workbook 06 are thin layers over this module.
+
+A file named explicitly is always audited. A folder is searched (:func:`scan_paths`) for files
+whose name ends in ``.toml`` (any case), and **every file left out is listed** with its
+reason (:class:`Skipped`, kinds :data:`SKIP_KINDS`); nothing is left out silently:
+
+* ``other``: a TOML file of another kind — a step-up chain file (its ``format``), a list of
+  upgrade candidates (only ``title``, ``currency`` and ``[[candidate]]``), a Python project
+  file (only ``[build-system]``, ``[project]``, ``[tool]``), a file whose ``format`` names
+  something that is not ``viscometry-…``, or a file without ``format`` none of whose keys
+  belongs to a budget (``title`` alone counts as no budget key);
+* ``hidden``: a hidden folder (not searched) or a hidden file ending in ``.toml``;
+* ``link``: a symbolic link to a folder, which is never followed (so a loop cannot make the
+  search endless), or a link that leads nowhere;
+* ``name``: a name with ``.toml`` inside but another ending (``budget.toml~``, ``.bak``);
+* ``damaged``: only with ``skip_damaged=True``, see below.
+
+A *damaged* file is one found in a folder that cannot be read as a TOML document of a known
+kind: not a regular file (a FIFO, a device, a link to one; refused before it is opened), not
+readable, over the size limit, not UTF-8, not valid TOML, empty or only comments, without
+``format`` but with a budget's tables (a budget that lost its format line), or with a
+``format`` that is not text or an unknown ``viscometry-…`` name. It is audited — an
+``error`` (exit code 2) — unless ``skip_damaged`` lists it as skipped. A file whose ``format``
+names a budget format (also another version such as ``viscometry-budget/2``) is always
+audited. At most :data:`MAX_SCAN_ENTRIES` folder entries are looked at below one folder.
 """
 
 from __future__ import annotations
@@ -21,31 +43,63 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from viscometry.errors import ViscometryError
+from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.rounding import round_result
-from viscometry.io.reader import BudgetFile, is_budget_file, load_budget
+from viscometry.io.chain import CHAIN_FORMAT
+from viscometry.io.reader import BudgetFile, load_budget, parse_toml, read_text_file
+from viscometry.io.schema import FORMAT, TOP_KEYS
 from viscometry.text import one_line, statement
 
 __all__ = [
     "AUDIT_COLUMNS",
+    "MAX_SCAN_ENTRIES",
+    "SKIP_KINDS",
     "VERDICTS",
+    "AuditRun",
     "AuditVerdict",
+    "FolderScan",
+    "Skipped",
     "audit_file",
     "audit_paths",
     "audit_table",
+    "classify_toml",
     "collect_files",
     "exit_code",
     "fingerprint_status",
+    "run_audit",
+    "scan_paths",
 ]
 
 #: The verdicts, in order of severity, with the exit code of ``viscometry audit``.
 VERDICTS = {"match": 0, "unrecorded": 0, "differs": 1, "error": 2}
 #: Columns of :func:`audit_table`, in order.
 AUDIT_COLUMNS = ("file", "verdict", "recorded", "recomputed", "fingerprint", "detail")
+#: Why a file or folder found in a searched folder was not audited (:attr:`Skipped.kind`).
+SKIP_KINDS = {
+    "other": "a TOML file of another kind",
+    "hidden": "hidden, not searched",
+    "link": "a symbolic link to a folder (never followed) or to nothing",
+    "name": "the name does not end in .toml",
+    "damaged": "damaged or of unknown kind, skipped on request",
+}
+#: Most folder entries looked at below one folder given to :func:`scan_paths` (a bound on
+#: the time and memory of a search; a larger tree is an error, not a partial audit).
+MAX_SCAN_ENTRIES = 100_000
+
+#: Top-level keys of a list of upgrade candidates (:mod:`viscometry.io.candidates`).
+_CANDIDATE_KEYS = frozenset({"title", "currency", "candidate"})
+#: Top-level tables of a Python project file (PEP 518, PEP 621, PEP 735).
+_PROJECT_KEYS = frozenset({"build-system", "project", "tool", "dependency-groups"})
+#: Top-level keys only a budget file has (``title`` is common to many kinds of file).
+_BUDGET_KEYS = frozenset(TOP_KEYS) - {"format", "title"}
+_DAMAGED_NOTE = (
+    "found in a folder and counted as a damaged budget file{reason} "
+    "(skip damaged files to list it as skipped instead)"
+)
 
 PathLike = str | os.PathLike[str]
 
@@ -69,24 +123,265 @@ class AuditVerdict:
         }  # fmt: skip
 
 
-def collect_files(paths: Iterable[PathLike]) -> tuple[list[Path], list[AuditVerdict]]:
-    """Files named directly, plus every budget file ``*.toml`` under each folder (sorted).
+@dataclass(frozen=True)
+class Skipped:
+    """A file or folder found while searching a folder and not audited, with the reason.
 
-    Returns the files and an ``error`` verdict for each folder without budget files.
+    Attributes
+    ----------
+    path : str
+        As found (below the folder given).
+    kind : str
+        One of :data:`SKIP_KINDS`.
+    reason : str
+        In words, e.g. ``"not a budget file (a list of upgrade candidates)"``.
+    """
+
+    path: str
+    kind: str
+    reason: str
+
+    def to_dict(self) -> dict[str, str]:
+        return {"path": self.path, "kind": self.kind, "reason": self.reason}
+
+
+@dataclass(frozen=True)
+class FolderScan:
+    """What :func:`scan_paths` found (immutable).
+
+    Attributes
+    ----------
+    files : tuple of Path
+        The files to audit: those named explicitly, then each folder's, sorted.
+    skipped : tuple of Skipped
+        Everything found and left out, sorted per folder.
+    errors : tuple of AuditVerdict
+        An ``error`` verdict for each folder without budget files, that cannot be listed, or
+        with more than :data:`MAX_SCAN_ENTRIES` entries.
+    damaged : tuple of (Path, str)
+        The files among ``files`` that a folder search found damaged (audited as errors),
+        each with the reason.
+    """
+
+    files: tuple[Path, ...]
+    skipped: tuple[Skipped, ...] = ()
+    errors: tuple[AuditVerdict, ...] = ()
+    damaged: tuple[tuple[Path, str], ...] = ()
+
+
+def _show(value: Any) -> str:
+    """A value from a file, quoted and cut to a readable length."""
+    return one_line(repr(value), 60)
+
+
+def _by_format(fmt: str) -> tuple[str, str]:
+    if fmt.startswith("viscometry-budget"):
+        return "budget", ""
+    if fmt.startswith(CHAIN_FORMAT.split("/")[0] + "/"):
+        return "other", f"not a budget file (a step-up chain file, format = {_show(fmt)})"
+    if fmt.startswith("viscometry"):
+        return "damaged", (
+            f"format = {_show(fmt)} names no kind of viscometry file; a budget file has {FORMAT!r}"
+        )
+    return "other", f"not a budget file (format = {_show(fmt)})"
+
+
+def classify_toml(path: PathLike) -> tuple[str, str]:
+    """How a folder search treats a ``*.toml`` file: ``("budget", "")``, ``("other", reason)``
+    (skipped) or ``("damaged", reason)`` (an error unless damaged files are skipped).
+
+    The file is read with the budget reader's bounds (regular files only, at most 1 MB;
+    nothing is run). The rules are listed in the module docstring.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     p = pathlib.Path(d) / "x.toml"
+    ...     for text in ("", 'format = "viscometry-chain/1"', '[project]\\nname = "x"'):
+    ...         _ = p.write_text(text)
+    ...         print(classify_toml(p))
+    ('damaged', 'empty (nothing but comments or blank lines)')
+    ('other', "not a budget file (a step-up chain file, format = 'viscometry-chain/1')")
+    ('other', 'not a budget file (a Python project file)')
+    """
+    label = str(path)
+    try:
+        text = read_text_file(path, "a budget file")
+        if text.startswith("\ufeff"):
+            return (
+                "damaged",
+                "starts with a byte-order mark (BOM); save the file as UTF-8 without it",
+            )
+        doc = parse_toml(text, label)
+    except BudgetFileError as exc:
+        return "damaged", one_line(str(exc)).removeprefix(f"{one_line(label)}: ")
+    fmt = doc.get("format")
+    if isinstance(fmt, str):
+        return _by_format(fmt)
+    if fmt is not None:
+        return "damaged", f"format = {_show(fmt)} is not text; a budget file has {FORMAT!r}"
+    keys = set(doc)
+    if not keys:
+        return "damaged", "empty (nothing but comments or blank lines)"
+    if keys & _BUDGET_KEYS:
+        tables = ", ".join(f"[{k}]" for k in sorted(keys & _BUDGET_KEYS))
+        return "damaged", f"no format key but budget tables {tables} (lost its format line?)"
+    if "candidate" in keys and keys <= _CANDIDATE_KEYS:
+        return "other", "not a budget file (a list of upgrade candidates)"
+    if keys <= _PROJECT_KEYS:
+        return "other", "not a budget file (a Python project file)"
+    shown = ", ".join(_show(k) for k in sorted(keys)[:5]) + (", …" if len(keys) > 5 else "")
+    return "other", f"not a budget file (no format key and no budget table; keys {shown})"
+
+
+def _real(path: Path) -> Path | None:
+    try:
+        return path.resolve(strict=True)
+    except (OSError, RuntimeError):  # broken, or a loop of links
+        return None
+
+
+def _link_reason(link: Path, root: Path | None) -> str:
+    """Why a symbolic link to a folder is not followed, and where it leads."""
+    target, above = _real(link), _real(link.parent)
+    if target is None:
+        return "symbolic link that leads nowhere (broken, or a loop), not followed"
+    if above is not None and (target == above or target in above.parents):
+        return f"symbolic link loop: leads back to the folder {target} above it, not followed"
+    if root is not None and (target == root or root in target.parents):
+        return f"symbolic link to the folder {target} inside the search, not followed"
+    return f"symbolic link to the folder {target} outside the search, not followed (name it to audit it)"
+
+
+def _look(entry: os.DirEntry[str], folder: Path, root: Path | None) -> tuple[str, Any]:
+    """What to do with one folder entry: ``("search", Path)``, ``("file", Path)``,
+    ``("skip", Skipped)`` or ``("ignore", None)`` (not a TOML file at all)."""
+    path, name = folder / entry.name, entry.name
+    tomlish = name.lower().endswith(".toml")
+    try:
+        link = entry.is_symlink()
+    except OSError:
+        link = False
+    try:
+        is_dir = entry.is_dir()  # follows a link
+    except OSError:  # a loop of links
+        is_dir = False
+    if link and is_dir:
+        return "skip", Skipped(str(path), "link", _link_reason(path, root))
+    if name.startswith("."):  # hidden; temporary files of the atomic writer are ignored
+        if is_dir:
+            return "skip", Skipped(
+                str(path), "hidden", "hidden folder, not searched (name it to audit it)"
+            )
+        if tomlish:
+            return "skip", Skipped(
+                str(path), "hidden", "hidden file, not audited (name it to audit it)"
+            )
+        return "ignore", None
+    if is_dir:
+        return "search", path
+    if tomlish:
+        return "file", path  # also a FIFO, a device or a broken link: audited as an error
+    if link and not os.path.exists(path):
+        return "skip", Skipped(
+            str(path), "link", "symbolic link that leads nowhere (broken, or a loop)"
+        )
+    if ".toml" in name.lower():
+        return "skip", Skipped(str(path), "name", "name does not end in .toml (a backup copy?)")
+    return "ignore", None
+
+
+def _entries(folder: Path, budget: int) -> list[os.DirEntry[str]] | None:
+    """The entries of a folder sorted by name, or None when there are more than ``budget``."""
+    out = []
+    with os.scandir(folder) as it:
+        for entry in it:
+            if len(out) >= budget:
+                return None
+            out.append(entry)
+    return sorted(out, key=lambda e: e.name)
+
+
+def _search(root: Path) -> tuple[list[Path], list[Skipped], list[AuditVerdict]]:
+    """Candidate files below ``root``, what was skipped, and errors (bounded, no link followed)."""
+    files: list[Path] = []
+    skipped: list[Skipped] = []
+    errors: list[AuditVerdict] = []
+    seen: set[tuple[int, int]] = set()
+    stack, left, real = [root], MAX_SCAN_ENTRIES, _real(root)
+    while stack:
+        folder = stack.pop()
+        try:
+            st = folder.stat()
+            if (st.st_dev, st.st_ino) in seen:  # reached twice (a bind mount): stop here
+                skipped.append(Skipped(str(folder), "link", "folder already searched, not again"))
+                continue
+            seen.add((st.st_dev, st.st_ino))
+            entries = _entries(folder, left)
+        except OSError as exc:
+            errors.append(AuditVerdict(str(folder), "error", (
+                f"cannot list the folder: {exc.strerror or exc}",)))  # fmt: skip
+            continue
+        if entries is None:
+            message = (
+                f"more than {MAX_SCAN_ENTRIES} entries below this folder; audit smaller folders"
+            )
+            return [], skipped, [AuditVerdict(str(root), "error", (message,))]
+        left -= len(entries)
+        for entry in reversed(entries):  # the stack pops the first name first
+            what, item = _look(entry, folder, real)
+            if what == "search":
+                stack.append(item)
+            elif what != "ignore":
+                (files if what == "file" else skipped).append(item)
+    return files, skipped, errors
+
+
+def scan_paths(paths: Iterable[PathLike], *, skip_damaged: bool = False) -> FolderScan:
+    """The files to audit below ``paths`` and every file or folder left out, with the reason.
+
+    A file named in ``paths`` is always audited. A folder is searched for names ending in
+    ``.toml`` (any case) without following symbolic links to folders and without entering
+    hidden folders; each file found is sorted by :func:`classify_toml`. Damaged files are
+    audited (errors) unless ``skip_damaged``, which lists them as skipped instead.
     """
     files: list[Path] = []
-    empty: list[AuditVerdict] = []
+    skipped: list[Skipped] = []
+    errors: list[AuditVerdict] = []
+    damaged: list[tuple[Path, str]] = []
     for p in map(Path, paths):
-        if p.is_dir():
-            found = [f for f in sorted(p.rglob("*.toml")) if is_budget_file(f)]
-            if not found:
-                empty.append(
-                    AuditVerdict(str(p), "error", ("no budget files (*.toml) in this folder",))
-                )
-            files += found
-        else:
-            files.append(p)
-    return files, empty
+        if not p.is_dir():
+            files.append(p)  # named explicitly: always audited
+            continue
+        found, skips, problems = _search(p)
+        budgets = []
+        for f in sorted(found):
+            kind, reason = classify_toml(f)
+            if kind == "budget" or (kind == "damaged" and not skip_damaged):
+                budgets.append(f)
+                if kind == "damaged":
+                    damaged.append((f, reason))
+            elif kind == "damaged":
+                skips.append(Skipped(str(f), kind, f"damaged, skipped as asked: {reason}"))
+            else:
+                skips.append(Skipped(str(f), kind, reason))
+        if not budgets and not problems:
+            note = f" ({len(skips)} skipped, listed)" if skips else ""
+            errors.append(AuditVerdict(str(p), "error", (
+                f"no budget files (*.toml) in this folder{note}",)))  # fmt: skip
+        errors += problems
+        files += budgets
+        skipped += sorted(skips, key=lambda s: Path(s.path))
+    return FolderScan(tuple(files), tuple(skipped), tuple(errors), tuple(damaged))
+
+
+def collect_files(paths: Iterable[PathLike]) -> tuple[list[Path], list[AuditVerdict]]:
+    """Files named directly, plus the budget files under each folder (sorted), and an
+    ``error`` verdict for each folder without budget files (see :func:`scan_paths`, which
+    also lists what was skipped)."""
+    scan = scan_paths(paths)
+    return list(scan.files), list(scan.errors)
 
 
 def _compare(bf: BudgetFile, result: Any) -> tuple[list[str], dict[str, Any], dict[str, Any]]:
@@ -178,8 +473,12 @@ def audit_file(path: PathLike) -> AuditVerdict:
     )
 
 
-def audit_paths(paths: Iterable[PathLike]) -> tuple[AuditVerdict, ...]:
+def audit_paths(
+    paths: Iterable[PathLike], *, skip_damaged: bool = False
+) -> tuple[AuditVerdict, ...]:
     """Audit budget files and folders (searched recursively), in sorted order per folder.
+
+    The verdicts of :func:`run_audit`, which also lists the files a folder search skipped.
 
     Examples
     --------
@@ -189,8 +488,53 @@ def audit_paths(paths: Iterable[PathLike]) -> tuple[AuditVerdict, ...]:
     ...     [v.status for v in audit_paths([d])]
     ['error']
     """
-    files, empty = collect_files(paths)
-    return tuple(empty) + tuple(audit_file(f) for f in files)
+    return run_audit(paths, skip_damaged=skip_damaged).verdicts
+
+
+@dataclass(frozen=True)
+class AuditRun:
+    """An audit of files and folders (:func:`run_audit`): a verdict per audited file, and
+    every file or folder a folder search left out (immutable)."""
+
+    verdicts: tuple[AuditVerdict, ...]
+    skipped: tuple[Skipped, ...] = ()
+
+    def exit_code(self, *, strict: bool = False) -> int:
+        """As :func:`exit_code` (skipped files do not change it)."""
+        return exit_code(self.verdicts, strict=strict)
+
+    def counts(self) -> dict[str, int]:
+        """How many files had each verdict (:data:`VERDICTS`), and ``"skipped"``."""
+        counts = {s: sum(v.status == s for v in self.verdicts) for s in VERDICTS}
+        return {**counts, "skipped": len(self.skipped)}
+
+
+def run_audit(paths: Iterable[PathLike], *, skip_damaged: bool = False) -> AuditRun:
+    """Audit budget files and folders; list what a folder search left out and why.
+
+    Folders are searched as :func:`scan_paths` does; a damaged file found in a folder is an
+    ``error`` verdict (with a note saying so) unless ``skip_damaged``.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     _ = (pathlib.Path(d) / "emptied.toml").write_text("")
+    ...     run = run_audit([d], skip_damaged=True)
+    ...     [v.status for v in run.verdicts], [s.kind for s in run.skipped], run.exit_code()
+    (['error'], ['damaged'], 2)
+    """
+    scan = scan_paths(paths, skip_damaged=skip_damaged)
+    damaged = dict(scan.damaged)
+    verdicts = []
+    for f in scan.files:
+        v = audit_file(f)
+        if f in damaged and v.status == "error":
+            said = any(damaged[f] in m for m in v.messages)
+            note = _DAMAGED_NOTE.format(reason="" if said else f": {damaged[f]}")
+            v = replace(v, messages=(*v.messages, note))
+        verdicts.append(v)
+    return AuditRun(scan.errors + tuple(verdicts), scan.skipped)
 
 
 def exit_code(verdicts: Sequence[AuditVerdict], *, strict: bool = False) -> int:
@@ -220,19 +564,25 @@ def fingerprint_status(verdict: AuditVerdict) -> str:
 def _label(path: str, relative_to: PathLike | None) -> str:
     p = Path(path)
     if relative_to is not None:
-        try:
-            return p.resolve().relative_to(Path(relative_to).resolve()).as_posix()
-        except ValueError:
+        try:  # the folder resolved, the name kept: a link is shown as itself, not its target
+            full = p.resolve() if p.name in ("", "..") else p.parent.resolve() / p.name
+            return full.relative_to(Path(relative_to).resolve()).as_posix()
+        except (ValueError, OSError, RuntimeError):
             pass
     return p.as_posix()
 
 
-def audit_table(verdicts: Sequence[AuditVerdict], relative_to: PathLike | None = None) -> Any:
+def audit_table(
+    verdicts: Sequence[AuditVerdict],
+    relative_to: PathLike | None = None,
+    skipped: Sequence[Skipped] = (),
+) -> Any:
     """One row per audited file, every cell text (columns :data:`AUDIT_COLUMNS`).
 
     ``relative_to`` shows file names relative to a folder, so the table does not depend on
     where the files lie. The recorded result is shown as rounded for comparison
-    (``"value ± U"``), the recomputed one as in the result statement.
+    (``"value ± U"``), the recomputed one as in the result statement. Each of ``skipped``
+    (:attr:`AuditRun.skipped`) adds a row with the verdict ``"skipped"`` and its reason.
     """
     import pandas as pd
 
@@ -249,4 +599,7 @@ def audit_table(verdicts: Sequence[AuditVerdict], relative_to: PathLike | None =
             "recomputed": text.split(", k = ")[0] if text else "—",
             "fingerprint": fingerprint_status(v), "detail": detail,
         })  # fmt: skip
+    for s in skipped:
+        rows.append({"file": _label(s.path, relative_to), "verdict": "skipped", "recorded": "—",
+                     "recomputed": "—", "fingerprint": "—", "detail": s.reason})  # fmt: skip
     return pd.DataFrame(rows, columns=list(AUDIT_COLUMNS))

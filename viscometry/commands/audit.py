@@ -2,8 +2,11 @@
 
 A thin layer over :mod:`viscometry.audit` (the comparison rules are documented there).
 Exit code: 0 all match, 1 any differs (or, with ``--strict``, a file has no record), 2 any
-error. When a folder is scanned, TOML files of another kind (lists of upgrade candidates)
-are skipped; a file named explicitly is always audited.
+error. A file named explicitly is always audited. When a folder is searched, every file or
+folder left out is listed on a ``SKIP`` line with the reason (another kind of TOML file, a
+hidden folder, a symbolic link to a folder, a backup name); skipped files do not change the
+exit code. A damaged file found in a folder (empty, not TOML, no format line, not a regular
+file, ...) is an error unless ``--skip-damaged`` lists it as skipped.
 """
 
 from __future__ import annotations
@@ -20,7 +23,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "paths",
         metavar="PATH",
         nargs="+",
-        help="budget file, or folder searched recursively for *.toml files",
+        help="budget file (always audited), or folder searched recursively for *.toml files; "
+        "every file or folder left out is listed on a SKIP line with the reason (another kind "
+        "of TOML file such as a candidates or chain file, a hidden folder, a symbolic link to a "
+        "folder, which is never followed, a backup name such as *.toml~); skipped files do not "
+        "change the exit code",
     )
     parser.add_argument(
         "--json",
@@ -32,25 +39,38 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         action="store_true",
         help="count a file without a [recorded] table as a difference (exit 1)",
     )
+    parser.add_argument(
+        "--skip-damaged",
+        action="store_true",
+        help="list a damaged file found in a folder (empty, only comments, not UTF-8 or not "
+        "TOML, no format line, not a regular file, unreadable) as skipped instead of counting "
+        "it as an error (exit 2); a file whose format line names a budget is always audited",
+    )
 
 
 def run(args: argparse.Namespace) -> int:
     """Audit every file; print a verdict line per file (or JSON). Returns 0, 1 or 2."""
     from viscometry import __version__
-    from viscometry.audit import VERDICTS, audit_paths, exit_code
+    from viscometry.audit import run_audit
     from viscometry.commands._common import print_json
     from viscometry.io.json_out import schema
     from viscometry.text import one_line
 
-    verdicts = audit_paths(args.paths)
-    code = exit_code(verdicts, strict=args.strict)
+    audit = run_audit(args.paths, skip_damaged=args.skip_damaged)
+    verdicts, skipped = audit.verdicts, audit.skipped
+    code = audit.exit_code(strict=args.strict)
     if args.json:
         print_json({"schema": schema("audit"), "verdicts": [v.to_dict() for v in verdicts],
+                    "skipped": [s.to_dict() for s in skipped],
                     "exit_code": code, "version": __version__})  # fmt: skip
         return code
     width = max((len(v.status) for v in verdicts), default=0)
     for v in verdicts:
         print(f"{v.status.upper():<{width}}  {one_line(v.path)}: {one_line('; '.join(v.messages))}")
-    counts = {s: sum(v.status == s for v in verdicts) for s in VERDICTS}
-    print(f"{len(verdicts)} file(s): " + ", ".join(f"{n} {s}" for s, n in counts.items() if n))
+    for s in skipped:
+        print(f"{'SKIP':<{width}}  {one_line(s.path)}: {one_line(s.reason)}")
+    counts = audit.counts()
+    skips = counts.pop("skipped")
+    line = f"{len(verdicts)} file(s): " + ", ".join(f"{n} {s}" for s, n in counts.items() if n)
+    print(line + (f"; {skips} skipped (listed above, not audited)" if skips else ""))
     return code
