@@ -72,3 +72,31 @@ def test_refusals_are_said(tmp_path: Path) -> None:
     panel = audit_panel(empty)
     assert [v.status for v in panel.verdicts] == ["error"]
     assert "no budget files" in panel.table_html.value
+
+
+def test_skipped_files_are_rows_of_the_table(tmp_path: Path) -> None:
+    # the panel lists what the folder search left out, with the reason (this package's own
+    # wording, no external source), and counts it in the summary
+    folder = tmp_path / "budgets"
+    folder.mkdir()
+    shutil.copy(PRIMARY, folder / PRIMARY.name)
+    shutil.copy(EXAMPLES / "chains" / "ashcombe_step_up_chain.toml", folder / "chain.toml")
+    (folder / ".ipynb_checkpoints").mkdir()
+    shutil.copy(PRIMARY, folder / ".ipynb_checkpoints" / "copy.toml")
+    panel = audit_panel(folder)
+    assert [v.status for v in panel.verdicts] == ["match"]
+    assert sorted(s.kind for s in panel.skipped) == ["hidden", "other"]
+    summary = panel.summary_html.value
+    assert "audit PASSED: 1 budget file(s)" in summary and "color:#060" in summary
+    assert "; 2 skipped (listed in the table, not audited)" in summary
+    table = panel.table_html.value
+    assert table.count("SKIPPED</b>") == 2
+    assert "<td>chain.toml</td>" in table and "a step-up chain file" in table
+    assert "<td>.ipynb_checkpoints</td>" in table and "hidden folder, not searched" in table
+
+
+def test_the_examples_show_their_two_other_files_as_skipped(tmp_path: Path) -> None:
+    panel = audit_panel(EXAMPLES, export_folder=tmp_path / "record")
+    names = sorted(Path(s.path).name for s in panel.skipped)
+    assert names == ["ashcombe_step_up_chain.toml", "pressure_capillary_upgrades.toml"]
+    assert "; 2 skipped (listed in the table, not audited)" in panel.summary_html.value

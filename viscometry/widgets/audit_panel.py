@@ -5,7 +5,10 @@ folder is evaluated again and compared with its record (:func:`viscometry.audit.
 and the table shows each verdict in words and colour. *Export* writes ``audit.html`` and
 ``audit.csv`` (:func:`viscometry.report.write_audit_report`) into a folder the auditor
 names, and offers download links. A folder that does not exist, holds no budget files or
-cannot be written is said in red; nothing is skipped silently.
+cannot be written is said in red; nothing is skipped silently: every file or folder the search
+leaves out (another kind of TOML file, a hidden folder, a symbolic link to a folder) is a row
+of the table with the verdict *skipped* and the reason, and the summary counts them
+(:func:`viscometry.audit.run_audit`).
 """
 
 from __future__ import annotations
@@ -16,7 +19,7 @@ from pathlib import Path
 
 import ipywidgets as widgets
 
-from viscometry.audit import AuditVerdict, audit_paths, audit_table
+from viscometry.audit import AuditVerdict, Skipped, audit_table, run_audit
 from viscometry.errors import ViscometryError
 from viscometry.report import write_audit_report
 from viscometry.text import audit_summary, audit_table_html
@@ -28,6 +31,7 @@ __all__ = ["AuditPanel", "audit_panel"]
 class _State:
     def __init__(self) -> None:
         self.verdicts: tuple[AuditVerdict, ...] = ()
+        self.skipped: tuple[Skipped, ...] = ()
         self.folder: Path | None = None
         self.message = ""
 
@@ -52,6 +56,11 @@ class AuditPanel:
         return self._state.verdicts
 
     @property
+    def skipped(self) -> tuple[Skipped, ...]:
+        """What the last audit's folder search left out, with the reasons."""
+        return self._state.skipped
+
+    @property
     def message(self) -> str:
         """The last refusal (a missing folder, an export that failed), or ``""``."""
         return self._state.message
@@ -62,13 +71,17 @@ class AuditPanel:
         if not folder.is_dir():
             self._refuse(self.summary_html, f"folder {str(folder)!r} does not exist")
             return ()
-        verdicts = audit_paths([folder])
-        table = audit_table(verdicts, relative_to=folder)
-        self._state.verdicts, self._state.folder, self._state.message = verdicts, folder, ""
-        counts = table["verdict"].value_counts().to_dict()
+        audit = run_audit([folder])
+        verdicts = audit.verdicts
+        table = audit_table(verdicts, relative_to=folder, skipped=audit.skipped)
+        self._state.verdicts, self._state.skipped = verdicts, audit.skipped
+        self._state.folder, self._state.message = folder, ""
+        counts = audit.counts()
+        skipped = counts.pop("skipped")
         colour = "#060" if counts.get("differs", 0) + counts.get("error", 0) == 0 else "#a00"
+        note = f"; {skipped} skipped (listed in the table, not audited)" if skipped else ""
         self.summary_html.value = (
-            f"<b style='color:{colour}'>{html.escape(audit_summary(counts))}</b>"
+            f"<b style='color:{colour}'>{html.escape(audit_summary(counts) + note)}</b>"
         )
         self.table_html.value = audit_table_html(table)
         return verdicts
