@@ -540,7 +540,7 @@ _SPELLINGS = {
     "…": "...", "′": "'", "″": "''", "‘": "'", "’": "'", "“": '"', "”": '"', "«": '"',
     "»": '"', "√": "sqrt", "∑": "sum", "∂": "d", "→": "->", "←": "<-", "↔": "<->",
     "✓": "ok", "✗": "x", "½": "1/2", "¼": "1/4", "¾": "3/4", "€": "EUR", "£": "GBP",
-    "℃": "degC", "Ω": "Ohm", "Å": "Angstrom", "ℓ": "l", "§": "S.", "\u00a0": " ",
+    "℃": "degC", "\u2126": "Ohm", "Å": "Angstrom", "ℓ": "l", "§": "S.", "\u00a0": " ",
     "\u202f": " ", "\u2009": " ", "⌊": "floor(", "⌋": ")", "⌈": "ceil(", "⌉": ")",
 }  # fmt: skip
 _SUPERSCRIPTS = dict(zip("⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻⁼⁽⁾ⁿⁱ", "0123456789+-=()ni", strict=True))
@@ -755,7 +755,7 @@ def audit_summary(counts: dict[str, int]) -> str:
 
 def audit_table_html(table: object) -> str:
     """The audit table (:func:`viscometry.audit.audit_table`) as HTML, each verdict in words and
-    colour. Every cell is escaped."""
+    colour. Every cell is escaped (and put on one line, control characters shown as escapes)."""
     e = html.escape
     columns = list(table.columns)  # type: ignore[attr-defined]
     head = "".join(f"<th>{e(str(c))}</th>" for c in columns)
@@ -764,7 +764,7 @@ def audit_table_html(table: object) -> str:
         words, colour = VERDICT_WORDS.get(rec["verdict"], (rec["verdict"], "#000"))
         cells = []
         for c in columns:
-            text = e(str(rec[c]))
+            text = e(one_line(str(rec[c])))
             if c == "verdict":
                 text = f"<b style='color:{colour}'>{e(rec['verdict'].upper())}</b> — {e(words)}"
             cells.append(f"<td>{text}</td>")
