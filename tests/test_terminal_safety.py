@@ -431,3 +431,20 @@ def test_real_ascii_locales_in_a_subprocess(files, env):
     assert "  nu = C*t - E/t**2    [m^2/s]" in lines
     last_json = out[out.index('{\n  "schema": "viscometry.evaluate/1"') : out.rindex("}") + 1]
     assert "±" in json.loads(last_json)["statement"]
+
+
+@pytest.mark.parametrize(
+    "argv",
+    [
+        ["decide", "--value", "1", "-u", "0.1", "--upper", "2", "--unit", "m\x1b[2J\u202e\nOK"],
+        ["scope", "{budget}", "--over", "a\x1b[2J\nMATCH", "--from", "1", "--to", "2"],
+        ["plan", "{budget}", "{budget}\x1b[2J"],
+        ["evaluate", "--json", "{budget}\u202e"],
+    ],
+    ids=["decide --unit", "scope --over", "plan candidates name", "evaluate --json name"],
+)
+def test_option_values_are_shown_escaped(argv, files, capsys):
+    argv = [a.replace("{budget}", str(files["budget"])) for a in argv]
+    code, out, err = _run(capsys, argv)
+    _no_unsafe_characters(out + err)
+    assert len((out + err).strip("\n").split("\n")) == (5 if code == 0 else 1), (out, err)
