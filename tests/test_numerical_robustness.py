@@ -20,7 +20,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from viscometry.errors import CorrelationError, ModelError
+from viscometry.errors import CorrelationError, InputError, ModelError
 from viscometry.gum import (
     Budget,
     Correlation,
@@ -261,14 +261,25 @@ def test_monte_carlo_model_raising_is_a_model_error():
 
 
 def test_no_numpy_warning_escapes_an_evaluation_with_extreme_values():
-    # 1e150 * 1e150 overflows when squared for the variance: a ModelError, no RuntimeWarning.
+    # c·u = 1e150 · 1e149 = 1e299 would overflow when squared for the variance; the scaled
+    # sum gives u_c = √2·1e299 (exact analytic: y = a·b, u_c² = (b·u_a)² + (a·u_b)²), and no
+    # RuntimeWarning escapes.
     b = Budget.from_formula(
         "y", "a * b", [InputQuantity.normal(n, 1e150, 1e149, "1") for n in "ab"], "1"
     )
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        with pytest.raises(ModelError, match="combined variance overflows"):
-            b.evaluate()
+        assert b.evaluate().standard_uncertainty == pytest.approx(math.sqrt(2) * 1e299, rel=1e-14)
+    # u_c = √2·2e308 itself exceeds the largest float (1.8e308): a ModelError saying so.
+    too_big = Budget.from_formula(
+        "y", "a * b", [InputQuantity.normal(n, 1e154, 2e154, "1") for n in "ab"], "1"
+    )
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(
+            ModelError, match=r"u_c ≈ 2\.8e\+308 is too large for a floating-point number"
+        ):
+            too_big.evaluate()
 
 
 # ----------------------------------------------------------------------------- plausibility
@@ -363,3 +374,222 @@ def test_built_in_viscometer_model_interval_below_zero_is_flagged():
         "cannot be negative, so the first-order budget is not adequate here: check the "
         "uncertainties and use the Monte Carlo method (JCGM 101)"
     ]
+
+
+# ----------------------------------------------------------------------------- underflow, overflow
+# The law of propagation works on contributions scaled by a power of two, so squares and
+# fourth powers neither underflow nor overflow (viscometry.gum.propagation). Scaling one
+# input's estimate and uncertainty by a factor f scales y, every sensitivity coefficient of
+# the other inputs and every contribution by f, and leaves ν_eff and k unchanged: exact
+# analytic scaling is the source of the expected values below.
+def _product_budget(factor: float) -> Budget:
+    """y = a·b/c with a (and u(a)) scaled by ``factor``; contributions ≈ 5e4, 5e3, 5e3 × f."""
+    return Budget.from_formula(
+        "y",
+        "a * b / c",
+        [
+            InputQuantity.normal("a", 2.0e6 * factor, 3.0e4 * factor, "1", dof=8),
+            InputQuantity.normal("b", 1.5, 0.002, "1"),
+            InputQuantity.normal("c", 0.8, 0.001, "1", dof=12),
+        ],
+        "1",
+    )
+
+
+@pytest.mark.parametrize("factor", [1e-200, 1e-170, 1e150, 1e200])
+def test_scaled_budget_scales_u_c_exactly(factor):
+    # f = 1e-200: each (c·u)² ≈ 1e-392 underflows to 0 in plain floats; f = 1e150 and 1e200:
+    # (c·u)² ≈ 1e309 and 1e409 overflow. Exact analytic scaling: u_c(f) = f·u_c(1).
+    base = _product_budget(1.0).evaluate()
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # no RuntimeWarning escapes either
+        scaled = _product_budget(factor).evaluate()
+    assert scaled.value == pytest.approx(factor * base.value, rel=1e-14)
+    assert scaled.standard_uncertainty == pytest.approx(
+        factor * base.standard_uncertainty, rel=1e-13
+    )
+    assert scaled.expanded_uncertainty == pytest.approx(
+        factor * base.expanded_uncertainty, rel=1e-13
+    )
+    # ν_eff = u_c⁴/Σ(cᵢu(xᵢ))⁴/νᵢ is scale-free (JCGM 100:2008, G.2b), so k is the same too
+    assert scaled.effective_dof == pytest.approx(base.effective_dof, rel=1e-12)
+    assert scaled.coverage_factor == base.coverage_factor
+    assert [c.variance_share for c in scaled.contributions] == pytest.approx(
+        [c.variance_share for c in base.contributions], rel=1e-12
+    )
+    assert not any("exactly known" in w for w in scaled.warnings)
+
+
+def test_scaled_kernel_matches_plain_floats_in_the_normal_range():
+    # Scaling by a power of two is exact: in the normal range the kernel gives the very digits
+    # of the unscaled formulas (independent recomputation with plain floats and math.fsum).
+    c = np.array([0.3, -1.7, 2.5e3, 4.0e-3])
+    u = np.array([0.01, 0.002, 1.0e-6, 0.7])
+    nu = np.array([4.0, np.inf, 9.0, 30.0])
+    from viscometry.gum.propagation import propagate, welch_satterthwaite
+
+    p = propagate(c, u, nu)
+    cu = [a * b for a, b in zip(c.tolist(), u.tolist(), strict=True)]
+    uc = math.sqrt(math.fsum(x * x for x in cu))
+    assert float(p.standard_uncertainty) == uc
+    nu_eff = uc**4 / math.fsum(
+        x**4 / n for x, n in zip(cu, nu.tolist(), strict=True) if n != math.inf
+    )
+    assert float(p.effective_dof) == pytest.approx(nu_eff, rel=1e-15)
+    # the vectorised form agrees with the one-budget form
+    cols = propagate(np.repeat(c[:, None], 3, axis=1), np.repeat(u[:, None], 3, axis=1), nu)
+    assert cols.standard_uncertainty.tolist() == [uc] * 3
+    # the public Welch-Satterthwaite function is scale-free too (exact analytic scaling)
+    assert welch_satterthwaite(np.array(cu) * 1e-200, nu, uc * 1e-200) == pytest.approx(
+        nu_eff, rel=1e-12
+    )
+
+
+def test_result_example_with_tiny_inputs_is_not_exactly_known():
+    # A budget file's density stated as 1e-200 ± 1e-200 kg/m³: its contribution c·u ≈ 1e-206
+    # Pa·s is representable, its square is not. u_c follows from the other contributions by
+    # exact analytic scaling of y = π r⁴ ρ g h t / (8 V L): u_c/y is that of the unscaled
+    # budget with u(ρ)/ρ = 1 (relative uncertainties add in quadrature for a power law,
+    # JCGM 100:2008, 5.1.6).
+    def budget(rho: float, u_rho: float) -> Budget:
+        inputs = [
+            InputQuantity.normal("r", 0.2, 1e-4, "mm"),
+            InputQuantity.normal("rho", rho, u_rho, "kg/m^3"),
+            InputQuantity.normal("g", 9.81, 1e-5, "m/s^2"),
+            InputQuantity.normal("h", 81.4, 0.03, "mm"),
+            InputQuantity.normal("t", 200.0, 0.04, "s"),
+            InputQuantity.normal("V", 1.0, 3e-4, "mL"),
+            InputQuantity.normal("L", 100.0, 0.01, "mm"),
+        ]
+        return Budget.from_formula("eta", "pi * r**4 * rho * g * h * t / (8 * V * L)", inputs,
+                                   "mPa*s")  # fmt: skip
+
+    tiny = budget(1e-200, 1e-200).evaluate()
+    plain = budget(998.2, 998.2).evaluate()
+    assert tiny.standard_uncertainty / tiny.value == pytest.approx(
+        plain.standard_uncertainty / plain.value, rel=1e-12
+    )
+    assert tiny.standard_uncertainty > 0
+    assert not any("exactly known" in w for w in tiny.warnings)
+    assert "exactly known" not in statement(tiny)
+
+
+def test_model_value_that_underflows_is_refused():
+    # r = 1e-90 m: π r⁴ Δp t / (8 V L) ≈ 6e-355 Pa·s in SI, far below the smallest normal
+    # float (2.2e-308): it would be shown as 0 ("exactly known"). This package's own wording.
+    b = _poiseuille_budget(1e-87, "mm", 100.0, "mm", 1.0, "mL", 800.0, "Pa", 200.0, "mPa*s")
+    with pytest.raises(ModelError, match=r"the model value eta at the input estimates is about "
+                                         r"\d(\.\d)?e-3\d\d in SI units, too small for a "
+                                         r"floating-point number \(underflow below 3e-316\)"):  # fmt: skip
+        b.evaluate()
+    with pytest.raises(ModelError, match="underflow"):
+        b.linearise()
+
+
+def test_intermediate_underflow_is_refused():
+    # y = r⁴·q with r = 1e-90 m, q = 1e300 m⁻⁴: y = 1e-60 is representable, but r⁴ = 1e-360
+    # underflows to 0 first, so plain floats give y = 0 (exact analytic value 1e-60).
+    b = Budget.from_formula(
+        "y", "r**4 * q",
+        [InputQuantity.normal("r", 1e-90, 1e-92, "m"), InputQuantity.normal("q", 1e300, 1e298, "1/m^4")],
+        "1",
+    )  # fmt: skip
+    with pytest.raises(ModelError, match=r"an intermediate value of the model underflows at the "
+                                         r"input estimates: y is about 1e-60"):  # fmt: skip
+        b.evaluate()
+    # y = r⁴/s² with s = 1e-150 m: ∂y/∂s = −2r⁴/s³ is 0/0 in plain floats (r⁴ and s³
+    # underflow); its exact value −2e90 is named, so the cause is clear.
+    c = Budget.from_formula(
+        "y", "r**4 / s**2",
+        [InputQuantity.normal("r", 1e-90, 1e-92, "m"), InputQuantity.normal("s", 1e-150, 1e-152, "m")],
+        "m^2",
+    )  # fmt: skip
+    with pytest.raises(ModelError, match=r"sensitivity coefficient of s is not finite at the "
+                                         r"estimates .*exact value is about 2e\+90"):  # fmt: skip
+        c.evaluate()
+
+
+def test_true_zero_is_not_mistaken_for_an_underflow():
+    # y = a − b with a = b: the zero is exact (checked in exact-exponent arithmetic), the
+    # result stands (exact analytic: u_c = √(0.03² + 0.04²) = 0.05).
+    r = _difference_budget().evaluate()
+    assert r.value == 0.0 and r.standard_uncertainty == pytest.approx(0.05, rel=1e-14)
+
+
+def test_sensitivity_that_underflows_with_a_negligible_share_is_a_warning():
+    # y = a + r⁵ with r = 1e-80: ∂y/∂r = 5r⁴ = 5e-320 is a subnormal float with about 13
+    # significant bits; its contribution 5e-320 · 1e-81 ≈ 5e-401 is far below u_c = u(a) =
+    # 0.1 (exact analytic), so u_c stands and only r's share is lost: a warning says so.
+    b = Budget.from_formula(
+        "y", "a + r**5", [InputQuantity.normal("a", 1.0, 0.1), InputQuantity.normal("r", 1e-80, 1e-81)]
+    )  # fmt: skip
+    result = b.evaluate()
+    assert result.standard_uncertainty == 0.1
+    (note,) = [w for w in result.warnings if "sensitivity coefficient of r" in w]
+    assert "about 5e-320" in note and "u_c is not affected" in note
+    assert b.linearise().standard_uncertainty == 0.1
+
+
+def test_sensitivity_that_underflows_with_a_real_share_is_refused():
+    # y = b + r⁵ with b = 1e-290 ± 1e-300 and r = 1e-80 ± 1e20: c·u(r) = 5e-320 · 1e20 =
+    # 5e-300 would dominate u_c, but c keeps too few digits: u_c would be wrong, so it is
+    # refused.
+    b = Budget.from_formula(
+        "y", "b + r**5",
+        [InputQuantity.normal("b", 1e-290, 1e-300), InputQuantity.normal("r", 1e-80, 1e20)],
+    )  # fmt: skip
+    with pytest.raises(ModelError, match=r"sensitivity coefficient of r at the input estimates "
+                                         r"is about 5e-320.*u_c would be wrong"):  # fmt: skip
+        b.evaluate()
+
+
+def test_u_c_below_the_smallest_float_is_refused():
+    # c·u = 1e-200 · 3e-200 = 3e-400: u_c itself cannot be represented (underflow).
+    b = Budget.from_formula(
+        "y", "k * x", [InputQuantity.normal("k", 1e-200, 0.0), InputQuantity.normal("x", 1.0, 3e-200)]
+    )  # fmt: skip
+    with pytest.raises(ModelError, match=r"u_c ≈ 3e-400 is too small for a floating-point number"):
+        b.evaluate()
+
+
+def test_input_below_the_smallest_float_in_si_is_refused():
+    # 1e-320 mm is 1e-323 m: a subnormal float with about two significant bits.
+    with pytest.raises(InputError, match=r"inputs\.a: the standard uncertainty of a is 9\.88e-324 "
+                                         r"in SI units, too small for a floating-point number "
+                                         r"to keep its digits \(below 3e-316\)"):  # fmt: skip
+        Budget.from_formula("y", "a", [InputQuantity.normal("a", 1.0, 1e-320, "mm")], "mm")
+
+
+def test_result_below_the_smallest_float_in_its_unit_is_refused():
+    # y = 1e-305 Pa·s is 1e-317 TPa·s, a subnormal that keeps too few digits: choose a
+    # smaller unit.
+    b = Budget.from_formula("y", "a", [InputQuantity.normal("a", 1e-305, 1e-306, "Pa*s")], "TPa*s")
+    with pytest.raises(ModelError, match=r"measurand unit 'TPa\*s' \(underflow below 3e-316\); "
+                                         r"choose a unit closer to its size"):  # fmt: skip
+        b.evaluate()
+    assert b.with_settings(unit="Pa*s").evaluate().value == 1e-305
+
+
+def test_subnormal_numbers_that_keep_their_digits_are_accepted():
+    # 2.2250738585e-313 is subnormal but keeps 36 significant bits (relative rounding below
+    # 1e-10): y = a is that number, u_c = u(a) (exact analytic).
+    r = Budget.from_formula("y", "a", [InputQuantity.normal("a", 2.2250738585e-313, 1.0, "m")],
+                            "m").evaluate()  # fmt: skip
+    assert r.value == 2.2250738585e-313 and r.standard_uncertainty == 1.0
+
+
+@pytest.mark.parametrize("factor", [1e-200, 1e200])
+def test_monte_carlo_spread_of_a_scaled_budget_is_not_lost(factor):
+    # The squared deviations of values near 1e-200 underflow (near 1e200 they overflow); the
+    # spread is computed on values scaled by a power of two instead. Same seed, same draws:
+    # the scaled run's mean and standard deviation are f times the unscaled ones (exact
+    # analytic scaling, up to the rounding of each draw).
+    base = simulate_budget(_product_budget(1.0), trials=20_000, seed=11).mc
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        scaled = simulate_budget(_product_budget(factor), trials=20_000, seed=11).mc
+    assert scaled.standard_uncertainty == pytest.approx(
+        factor * base.standard_uncertainty, rel=1e-12
+    )
+    assert scaled.value == pytest.approx(factor * base.value, rel=1e-12)
+    assert scaled.interval[1] == pytest.approx(factor * base.interval[1], rel=1e-12)

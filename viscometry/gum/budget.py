@@ -30,6 +30,7 @@ from viscometry.gum.linearised import LinearisedBudget, frozen_array
 from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
 from viscometry.gum.propagation import (
     DEFAULT_COVERAGE_PROBABILITY,
+    SMALLEST_KEPT,
     check_probability,
     higher_order_variance,
     propagate,
@@ -40,9 +41,13 @@ from viscometry.gum.rounding import ROUNDINGS, Rounding
 from viscometry.gum.validity import (
     BuiltInModel,
     check_context_problems,
+    check_propagation,
     estimate_warnings,
+    exact_value_note,
     method_problems,
+    si_problem,
     sign_bound_inputs,
+    underflow,
 )
 
 __all__ = [
@@ -179,6 +184,7 @@ class Budget:
                 where="checks",
             )
         self._convert_units()
+        self._check_si()
         set_(self, "_correlation_matrix", self._build_correlation())
 
     # ---------------------------------------------------------------- validation
@@ -271,6 +277,34 @@ class Budget:
             _units.check_model_dimensions(
                 expression, unit_map, self.unit, function_placeholders=placeholders
             )
+
+    def _check_si(self) -> None:
+        """Refuse an estimate, uncertainty or constant that is no usable float in SI units
+        (:func:`~viscometry.gum.validity.si_problem`): the engine computes in SI."""
+        in_scales, c_scales, _ = self._scales
+        if all(
+            _kept(q.value * s + o) and _kept(q.standard_uncertainty * s)
+            for q, (s, o) in zip(self.inputs, in_scales, strict=True)
+        ) and all(
+            _kept(k.value * s + o) for k, (s, o) in zip(self.constants, c_scales, strict=True)
+        ):
+            return  # (plain floats first: this runs for every what-if of a slider)
+        x, u, _nu, c = self.si_arrays()
+        for names, where, values, uncertainties, given in (
+            (self.input_names, "inputs", x, u, self.inputs),
+            (tuple(k.name for k in self.constants), "constants", c, np.zeros_like(c),
+             self.constants),
+        ):  # fmt: skip
+            found = si_problem(names, values, uncertainties) if len(names) else None
+            if found is not None:
+                row, _col, text = found
+                item = given[row]
+                place = f"{where}.{names[row]}"
+                stated = f"value {item.value!r}"
+                if isinstance(item, InputQuantity):
+                    stated += f", standard uncertainty {item.standard_uncertainty!r}"
+                unit = f" in {item.unit}" if item.unit not in ("", "1") else ""
+                raise InputError(f"{place}: {text} (given{unit}: {stated})", where=place)
 
     def _build_correlation(self) -> np.ndarray | None:
         if not self.correlations:
@@ -556,29 +590,45 @@ class Budget:
             coverage_probability=self.coverage_probability,
             coverage_factor=self.coverage_factor, extra_variance=extra,
         )  # fmt: skip
-        if not math.isfinite(float(prop.first_order_variance)):
-            raise ModelError(
-                "the combined variance overflows (sensitivity coefficients times standard "
-                f"uncertainties are too large to square: {self._largest(prop.contributions)}); "
-                "express the inputs in units closer to their size"
-            )
-        return assemble(self, x, y, grad, prop, higher_order)
+        notes = check_propagation(self, prop, u, self.underflowed_sensitivities, _at_estimates)
+        return assemble(self, x, y, grad, prop, higher_order, notes)
+
+    @functools.cached_property
+    def underflowed_sensitivities(self) -> tuple[tuple[int, int, float], ...]:
+        """Sensitivity coefficients that underflow at the estimates: (input index, 0,
+        log10 of the exact |cᵢ|) (:func:`viscometry.gum.validity.underflow`); a model value
+        that underflows is refused here."""
+        x, _u, _nu, c = self.si_arrays()
+        y, grad = self._value_and_gradient(x, c)
+        return self._underflow(x, c, y, grad)
+
+    def _underflow(
+        self, x: np.ndarray, c: np.ndarray, y: float, grad: np.ndarray
+    ) -> tuple[tuple[int, int, float], ...]:
+        message, lost = underflow(self, x, c, np.array([y]), grad, _at_estimates)
+        if message is not None:
+            raise ModelError(message)
+        return lost
 
     def _value_and_gradient(self, x: np.ndarray, c: np.ndarray) -> tuple[float, np.ndarray]:
         comp = self.compiled
         y = float(comp.value(*x, *c))
         if not math.isfinite(y):
+            note = exact_value_note(self, self.model.expression, x, c)
             raise ModelError(
-                f"the model gives {y!r} at the input estimates ({self._estimates()}); "
+                f"the model gives {y!r} at the input estimates ({self._estimates()}){note}; "
                 "check the estimates and the formula"
             )
         grad = comp.gradient(*x, *c)
-        bad = [n for n, g in zip(self.input_names, grad, strict=True) if not math.isfinite(g)]
+        bad = [i for i, g in enumerate(grad) if not math.isfinite(g)]
         if bad:
+            note = exact_value_note(self, comp.derivatives[bad[0]], x, c)
             raise ModelError(
-                f"sensitivity coefficient of {', '.join(bad)} is not finite at the estimates "
-                f"({self._estimates()})"
+                f"sensitivity coefficient of {', '.join(self.input_names[i] for i in bad)} is "
+                f"not finite at the estimates ({self._estimates()}){note}"
             )
+        if "underflowed_sensitivities" not in self.__dict__:  # once per set of estimates
+            self.__dict__["underflowed_sensitivities"] = self._underflow(x, c, y, grad)
         return y, grad
 
     def _higher_order_variance(
@@ -592,11 +642,6 @@ class Budget:
             )
         h, t = self.compiled.higher_order(*x, *c)
         return higher_order_variance(u, grad, h, t)
-
-    def _largest(self, contributions_si: np.ndarray) -> str:
-        cs = np.where(np.isnan(contributions_si), np.inf, contributions_si)
-        i = int(np.nanargmax(np.abs(cs)))
-        return f"{self.inputs[i].name} gives {float(contributions_si[i]):.3g} in SI units"
 
     def _estimates(self, limit: int = 6) -> str:
         """``a = 1.0 mm, b = 2.0 mm, ...`` for error messages."""
@@ -627,7 +672,19 @@ class Budget:
 
 
 #: Cached properties of a budget that depend on its estimates, model and checks only.
-_ESTIMATE_CACHES = ("sign_bound", "estimate_warnings", "positive_measurand")
+_ESTIMATE_CACHES = (
+    "sign_bound", "estimate_warnings", "positive_measurand", "underflowed_sensitivities",
+)  # fmt: skip
+
+
+def _kept(value: float) -> bool:
+    """0, or a finite float of at least :data:`SMALLEST_KEPT` in size (keeps its digits)."""
+    return value == 0 or SMALLEST_KEPT <= abs(value) < math.inf
+
+
+def _at_estimates(_point: int) -> str:
+    """Where a budget's own numbers are, for messages."""
+    return "at the input estimates"
 
 
 def _context(

@@ -19,8 +19,13 @@ from typing import TYPE_CHECKING, NamedTuple
 import numpy as np
 
 from viscometry.errors import InputError
-from viscometry.gum.propagation import Propagation, propagate
-from viscometry.gum.validity import uncertainty_warnings
+from viscometry.gum.propagation import (
+    SMALLEST_KEPT,
+    Propagation,
+    propagate,
+    representation_problem,
+)
+from viscometry.gum.validity import check_propagation, si_problem, uncertainty_warnings
 
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import Budget
@@ -74,16 +79,34 @@ class LinearisedBudget:
     def _index(self) -> dict[str, int]:
         return {n: i for i, n in enumerate(self.budget.input_names)}
 
+    @functools.cached_property
+    def _scales(self) -> tuple[float, ...]:
+        return self.budget.input_scales
+
     def with_uncertainties(self, changes: dict[str, float]) -> LinearisedBudget:
-        """A copy with several standard uncertainties changed (each ≥ 0, own unit)."""
+        """A copy with several standard uncertainties changed (each ≥ 0, own unit).
+
+        Refused as a budget refuses them: a negative or non-finite value, or one that is
+        not a usable float in SI units (below 3e-316 there, say).
+        """
         u = self.uncertainties.copy()
         index = self._index
+        scales = self._scales
         for name, value in changes.items():
             i = index.get(name)
             if i is None:
                 raise InputError(f"no input named {name!r} (inputs: {', '.join(self.names)})")
             if not (math.isfinite(value) and value >= 0):
                 raise InputError(f"{name}.standard_uncertainty must be non-negative, got {value!r}")
+            v = value * scales[i]
+            found = (
+                None
+                if v == 0 or SMALLEST_KEPT <= v < math.inf
+                else si_problem((name,), np.zeros(1), np.array([v]))
+            )
+            if found is not None:
+                raise InputError(f"{name}.standard_uncertainty = {value!r}: {found[2]}",
+                                 where=f"inputs.{name}")  # fmt: skip
             u[i] = value
         u.setflags(write=False)
         # A shallow copy that keeps what does not depend on u (the dofs, the name index)
@@ -91,17 +114,44 @@ class LinearisedBudget:
         new = object.__new__(LinearisedBudget)
         new.__dict__.update(
             budget=self.budget, value=self.value, sensitivities=self.sensitivities,
-            dofs=self.dofs, _index=index, uncertainties=u,
+            dofs=self.dofs, _index=index, _scales=scales, uncertainties=u,
         )  # fmt: skip
         return new
 
+    def with_estimate(self, name: str, value: float) -> LinearisedBudget:
+        """The budget linearised again at another estimate of ``name`` (its own unit).
+
+        The sensitivity coefficients depend on the estimates, so this is no shortcut: the
+        budget is rebuilt with the new estimate — and refused exactly as loading it would
+        be (a radius that is not positive, a value that is not finite...) — and
+        linearised there; the standard uncertainties of this copy are kept.
+
+        Raises
+        ------
+        InputError, ModelError
+            As :class:`~viscometry.gum.Budget` and :meth:`~viscometry.gum.Budget.linearise`.
+        """
+        q = self.budget.input(name)
+        u = dict(zip(self.names, self.uncertainties.tolist(), strict=True))
+        new = self.budget.with_input(q.with_uncertainty(u[name], value=value))
+        return new.linearise().with_uncertainties(u)
+
     @functools.cached_property
     def _propagation(self) -> Propagation:
+        """The kernel's numbers; a u_c or U that cannot be represented is refused (as by
+        :meth:`~viscometry.gum.Budget.evaluate`)."""
         b = self.budget
-        return propagate(
+        prop = propagate(
             self.sensitivities, self.uncertainties, self.dofs, b.correlation_matrix,
             coverage_probability=b.coverage_probability, coverage_factor=b.coverage_factor,
         )  # fmt: skip
+        lost = b.underflowed_sensitivities
+        if lost or representation_problem(prop) is not None:  # (rare: no arrays otherwise)
+            check_propagation(
+                b, prop, self.uncertainties * np.array(self._scales), lost, _at_estimates,
+                units=f"the measurand unit {b.unit!r}", log10_to_si=math.log10(b.output_scale),
+            )  # fmt: skip
+        return prop
 
     @property
     def contributions(self) -> np.ndarray:
@@ -131,8 +181,7 @@ class LinearisedBudget:
     @property
     def variance_shares(self) -> np.ndarray:
         """(cᵢu(xᵢ))²/u_c² per input (correlation cross-terms not included)."""
-        v = self.standard_uncertainty**2
-        return self.contributions**2 / v if v > 0 else np.zeros_like(self.contributions)
+        return np.asarray(self._propagation.variance_shares, dtype=float)
 
     @property
     def warnings(self) -> tuple[str, ...]:
@@ -149,6 +198,10 @@ class LinearisedBudget:
             b.sign_bound, b.unit,
         )  # fmt: skip
         return b.estimate_warnings + tuple(notes)
+
+
+def _at_estimates(_point: int) -> str:
+    return "at the input estimates"
 
 
 class _Row(NamedTuple):

@@ -47,6 +47,7 @@ from viscometry.gum.inputs import InputQuantity
 from viscometry.gum.propagation import (
     DEFAULT_COVERAGE_PROBABILITY,
     PSD_TOLERANCE,
+    SMALLEST_NORMAL,
     validate_correlation,
 )
 
@@ -581,6 +582,30 @@ def _mean_and_m2(y: np.ndarray) -> tuple[float, float]:
     return mean, m2
 
 
+def _mean_and_sd(y: np.ndarray) -> tuple[float, float]:
+    """Mean and standard deviation of the model values.
+
+    A spread whose squares under- or overflow (values near 1e-200 or 1e200) would come out
+    0 or ∞; then the values are scaled by a power of two first (exact) and the results
+    scaled back, so that no spread is lost. Values in the normal range never take that
+    path, so seeded results keep every digit.
+    """
+    with np.errstate(over="ignore", under="ignore"):  # detected below, not warned about
+        mean, m2 = _mean_and_m2(y)
+    sd = math.sqrt(m2 / (y.size - 1)) if y.size > 1 else 0.0
+    if y.size > 1 and not (SMALLEST_NORMAL <= sd < math.inf) and y.min() != y.max():
+        top = float(np.max(np.abs(y)))
+        if math.isfinite(top):
+            shift = math.frexp(top)[1]
+            mean_s, m2_s = _mean_and_m2(np.ldexp(y, -shift))
+            mean = math.ldexp(mean_s, shift)
+            try:
+                sd = math.ldexp(math.sqrt(m2_s / (y.size - 1)), shift)
+            except OverflowError:
+                sd = math.inf
+    return mean, sd
+
+
 def _summarise(
     y: np.ndarray,
     p: float,
@@ -594,8 +619,7 @@ def _summarise(
     note: str,
 ) -> MonteCarloResult:
     """Summarise the model values ``y`` (sorted in place: the caller's order is lost)."""
-    mean, m2 = _mean_and_m2(y)
-    sd = math.sqrt(m2 / (y.size - 1)) if y.size > 1 else 0.0
+    mean, sd = _mean_and_sd(y)
     y.sort()
     symmetric = _interval_sorted(y, p, "symmetric")
     shortest = _interval_sorted(y, p, "shortest")

@@ -17,7 +17,7 @@ import numpy as np
 
 from viscometry import units as _units
 from viscometry.errors import InputError, ModelError
-from viscometry.gum.propagation import Propagation
+from viscometry.gum.propagation import SMALLEST_KEPT, SMALLEST_NORMAL, Propagation
 from viscometry.gum.rounding import RoundedResult, Rounding, round_result
 from viscometry.gum.validity import uncertainty_warnings
 
@@ -226,32 +226,28 @@ def assemble(
     grad_si: np.ndarray,
     prop: Propagation,
     higher_order: bool,
+    notes: tuple[str, ...] = (),
 ) -> BudgetResult:
-    """The :class:`BudgetResult` of one evaluation (numbers from :func:`propagate`, in SI)."""
-    out_scale, out_offset = budget.output_scale, budget.output_offset
-    var = float(prop.standard_uncertainty) ** 2
-    first_uc = math.sqrt(max(float(prop.first_order_variance), 0.0))
+    """The :class:`BudgetResult` of one evaluation (numbers from :func:`propagate`, in SI);
+    ``notes`` are warnings found while propagating (a sensitivity whose share is lost)."""
+    out_scale = budget.output_scale
+    first_uc = float(prop.first_order_uncertainty)
     uc_si = float(prop.standard_uncertainty)
     k = float(prop.coverage_factor)
-    y = (y_si - out_offset) / out_scale
-    uc = uc_si / out_scale
-    if not (math.isfinite(y) and math.isfinite(uc) and math.isfinite(k * uc)):
-        raise ModelError(
-            f"the result y = {y_si!r} (SI), u_c = {uc_si!r} (SI) cannot be expressed in the "
-            f"measurand unit {budget.unit!r} (overflow); choose a unit closer to its size"
-        )
+    y, uc = _in_measurand_unit(budget, y_si, uc_si, k)
     contrib_si = prop.contributions
-    shares = contrib_si**2 / var if var > 0 else np.zeros_like(contrib_si)
+    shares = np.asarray(prop.variance_shares, dtype=float)
     rows = tuple(_rows(budget, x_si, y_si, grad_si, contrib_si, shares))
-    cross = tuple(_cross_terms(budget, contrib_si, var))
+    cross = tuple(_cross_terms(budget, contrib_si, uc_si))
     nu_used = float(prop.effective_dof_used)
     if budget.coverage_factor is not None:
         k_source = "fixed"
     else:
         k_source = "t" if math.isfinite(nu_used) else "normal"
     p = float(prop.coverage_probability)
-    notes = _evaluation_warnings(budget, prop, first_uc, uc_si, y_si, higher_order)
-    notes += uncertainty_warnings(
+    found = _evaluation_warnings(budget, prop, first_uc, uc_si, y_si, higher_order)
+    found += notes
+    found += uncertainty_warnings(
         budget.inputs,
         budget.measurand,
         y,
@@ -267,9 +263,25 @@ def assemble(
         expanded_uncertainty=k * uc,
         propagation="higher-order" if higher_order else "first-order",
         contributions=rows, cross_terms=cross,
-        warnings=budget.estimate_warnings + tuple(notes),
+        warnings=budget.estimate_warnings + tuple(found),
         first_order_standard_uncertainty=first_uc / out_scale,
     )  # fmt: skip
+
+
+def _in_measurand_unit(budget: Budget, y_si: float, uc_si: float, k: float) -> tuple[float, float]:
+    """y and u_c in the measurand unit; a :class:`ModelError` when either (or U) overflows,
+    or a non-zero one falls below :data:`SMALLEST_KEPT` (underflow), in that unit."""
+    y = (y_si - budget.output_offset) / budget.output_scale
+    uc = uc_si / budget.output_scale
+    finite = math.isfinite(y) and math.isfinite(uc) and math.isfinite(k * uc)
+    lost = (y_si != 0 and abs(y) < SMALLEST_KEPT) or (uc_si != 0 and uc < SMALLEST_KEPT)
+    if not finite or lost:
+        how = "overflow" if not finite else f"underflow below {SMALLEST_KEPT:.1g}"
+        raise ModelError(
+            f"the result y = {y_si!r} (SI), u_c = {uc_si!r} (SI) cannot be expressed in the "
+            f"measurand unit {budget.unit!r} ({how}); choose a unit closer to its size"
+        )
+    return y, uc
 
 
 def _rows(budget, x_si, y_si, grad_si, contrib_si, shares):  # type: ignore[no-untyped-def]
@@ -288,23 +300,31 @@ def _rows(budget, x_si, y_si, grad_si, contrib_si, shares):  # type: ignore[no-u
         )  # fmt: skip
 
 
-def _cross_terms(budget: Budget, contrib_si: np.ndarray, var: float) -> list[CrossTerm]:
+def _cross_terms(budget: Budget, contrib_si: np.ndarray, uc_si: float) -> list[CrossTerm]:
     r = budget.correlation_matrix
     out: list[CrossTerm] = []
     if r is None:
         return out
     n = len(contrib_si)
+    var = uc_si * uc_si
+    normal = SMALLEST_NORMAL <= var < math.inf
     for i in range(n):
         for j in range(i + 1, n):
             if r[i, j] != 0:
                 term = 2.0 * r[i, j] * contrib_si[i] * contrib_si[j]
+                if normal:
+                    share = term / var
+                elif uc_si > 0:  # u_c² under- or overflows: the same ratio, scaled first
+                    share = 2.0 * r[i, j] * (contrib_si[i] / uc_si) * (contrib_si[j] / uc_si)
+                else:
+                    share = 0.0
                 out.append(
                     CrossTerm(
                         budget.inputs[i].name,
                         budget.inputs[j].name,
                         float(r[i, j]),
                         term / budget.output_scale**2,
-                        term / var if var > 0 else 0.0,
+                        float(share),
                     )  # fmt: skip
                 )
     return out

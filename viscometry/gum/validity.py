@@ -20,14 +20,23 @@ Warnings are plain sentences with the numbers in them; nothing here prints.
 
 from __future__ import annotations
 
+import functools
 import math
-from collections.abc import Iterable, Iterator, Mapping, Sequence
-from typing import TYPE_CHECKING, Protocol, runtime_checkable
+import re
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, NamedTuple, Protocol, runtime_checkable
 
 import numpy as np
 import sympy as sp
 
 from viscometry import units as _units
+from viscometry.gum.propagation import (
+    SMALLEST_KEPT,
+    SMALLEST_NORMAL,
+    Propagation,
+    magnitude,
+    representation_problem,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import Budget, Constant
@@ -40,6 +49,16 @@ __all__ = [
     "check_context_problems",
     "estimate_warnings",
     "uncertainty_warnings",
+    "si_problem",
+    "check_points",
+    "group_notes",
+    "reaches_past_zero",
+    "interval_below_zero",
+    "point_plausibility",
+    "underflow",
+    "lost_contributions",
+    "check_propagation",
+    "exact_value_note",
 ]
 
 
@@ -228,7 +247,7 @@ def uncertainty_warnings(
     out = []
     bound = set(sign_bound)
     for q in inputs:
-        if q.name in bound and q.value != 0 and q.standard_uncertainty >= abs(q.value):
+        if q.name in bound and reaches_past_zero(q.value, q.standard_uncertainty):
             q_unit = f" {_units.format_unit(q.unit)}" if q.unit not in ("", "1") else ""
             out.append(
                 f"u({q.name}) = {q.standard_uncertainty:.3g}{q_unit} is at least |{q.name}| = "
@@ -237,7 +256,7 @@ def uncertainty_warnings(
                 "the value, or state the uncertainty with a bounded distribution and use the "
                 "Monte Carlo method (JCGM 101)"
             )
-    if positive_measurand and value > 0 and value - expanded_uncertainty < 0:
+    if positive_measurand and interval_below_zero(value, expanded_uncertainty):
         u = f" {_units.format_unit(unit)}" if unit not in ("", "1") else ""
         out.append(
             f"the coverage interval {measurand} ± U reaches below zero "
@@ -246,3 +265,469 @@ def uncertainty_warnings(
             "uncertainties and use the Monte Carlo method (JCGM 101)"
         )
     return out
+
+
+# =============================================================================== changed inputs
+# Every path that builds budgets from changed estimates or uncertainties without building a
+# Budget for each (a working range, the sets of an upgrade plan) asks the functions below,
+# so that it refuses and warns as loading the same budget would.
+
+#: Points of a range (or sets of a plan) whose model value or sensitivities are checked
+#: with exact-exponent arithmetic when they come out 0 or subnormal (see :func:`underflow`).
+EXACT_CHECKS = 16
+
+Label = Callable[[int], str]
+
+
+def si_problem(
+    names: Sequence[str], x_si: np.ndarray, u_si: np.ndarray
+) -> tuple[int, int, str] | None:
+    """The first estimate or standard uncertainty that is not a usable float in SI units.
+
+    A non-zero value below :data:`SMALLEST_KEPT` (about 3e-316) has lost most of its digits
+    (it is 0 below 4.9e-324); an infinite one overflowed. The engine works in SI units, so
+    such a value cannot be evaluated whatever unit it was given in.
+
+    Parameters
+    ----------
+    names : sequence of str
+        Input names (rows).
+    x_si, u_si : (N,) or (N, P) arrays
+        Estimates and standard uncertainties in SI units.
+
+    Returns
+    -------
+    (int, int, str) or None
+        Row, column (0 for a 1-d array) and the reason, e.g. ``"the standard uncertainty of
+        r is 9.88e-324 in SI units, too small for a floating-point number to keep its digits
+        (below 3e-316)"``.
+
+    Examples
+    --------
+    >>> si_problem(["r", "t"], np.array([1e-4, 200.0]), np.array([1e-323, 0.1]))[2]
+    'the standard uncertainty of r is 9.88e-324 in SI units, too small for a floating-point number to keep its digits (below 3e-316)'
+    """
+    for what, arr in (("estimate", x_si), ("standard uncertainty", u_si)):
+        a = np.asarray(arr, dtype=float).reshape(len(names), -1)
+        if a.size < 64:  # one budget (a slider): plain floats are faster than array masks
+            if all(v == 0 or SMALLEST_KEPT <= abs(v) < math.inf for v in a.flat):
+                continue
+        bad = ~np.isfinite(a) | ((a != 0) & (np.abs(a) < SMALLEST_KEPT))
+        if np.any(bad):
+            col = int(np.argmax(bad.any(axis=0)))
+            row = int(np.argmax(bad[:, col]))
+            v = float(a[row, col])
+            why = (
+                "too large for a floating-point number (overflow)"
+                if not math.isfinite(v)
+                else "too small for a floating-point number to keep its digits "
+                f"(below {SMALLEST_KEPT:.1g})"
+            )
+            return row, col, f"the {what} of {names[row]} is {v:.3g} in SI units, {why}"
+    return None
+
+
+def check_points(
+    budget: Budget, x_si: np.ndarray, u_si: np.ndarray, label: Label, noun: str = "points"
+) -> tuple[str, ...]:
+    """Refuse the first point a budget would refuse; return the validity warnings of the rest.
+
+    Each column of ``x_si``/``u_si`` (inputs × points, SI units) is a budget with changed
+    estimates or uncertainties. The estimates and uncertainties must be usable floats in SI
+    (:func:`si_problem`), and a built-in model's ``estimate_problem`` (a radius, a time, a
+    volume that must be positive) and ``check`` (its validity warnings) run at every
+    distinct point — the very calls a budget makes when it is loaded.
+
+    Parameters
+    ----------
+    budget : Budget
+        The budget the points are variations of (its model, constants and check context).
+    x_si, u_si : (N, P) arrays
+        Estimates and standard uncertainties per point, SI units.
+    label : callable
+        ``label(j)`` says where point j is, with its preposition, e.g. ``"at r = -0.1
+        (point 1 of the range)"`` or ``"with candidate 'new timer'"``.
+    noun : str
+        What the columns are, for the warnings (``"points"``, ``"sets"``).
+
+    Returns
+    -------
+    tuple of str
+        Validity warnings that hold at some points but not at the budget's own estimates,
+        each naming the first such point and how many there are.
+
+    Raises
+    ------
+    InputError
+        At the first refused point, naming it, the input and the value; ``where`` is
+        ``"inputs.NAME"``.
+    """
+    from viscometry.errors import InputError
+
+    names = budget.input_names
+    found = si_problem(names, x_si, u_si)
+    if found is not None:
+        row, col, text = found
+        raise InputError(f"{label(col)}: {text}", where=f"inputs.{names[row]}")
+    method = budget.method
+    if method is None:
+        return ()
+    x = np.asarray(x_si, dtype=float)
+    distinct, first, inverse = np.unique(x, axis=1, return_index=True, return_inverse=True)
+    context = dict(zip((c.name for c in budget.constants), budget.si_arrays()[3], strict=True))
+    context.update(budget.check_context)
+    refused: list[tuple[int, str, str]] = []
+    found: dict[int, list[str]] = {}
+    for k, (col, j) in enumerate(zip(distinct.T, first.tolist(), strict=True)):
+        values = dict(zip(names, col.tolist(), strict=True))
+        bad = [(n, p) for n in method.input_names if (p := method.estimate_problem(n, values[n]))]
+        if bad:
+            refused.append((j, *bad[0]))
+            continue
+        values.update(context)
+        found[k] = method.check(values)
+    if refused:
+        j, name, problem = min(refused)
+        i = names.index(name)
+        scale, offset = budget.input_conversions[i]
+        own = (float(x[i, j]) - offset) / scale
+        raise InputError(
+            f"{label(j)}: {name} {problem}, got {own!r} {budget.inputs[i].unit}".rstrip(),
+            where=f"inputs.{name}",
+        )
+    notes = [(j, w) for j, k in enumerate(np.ravel(inverse).tolist()) for w in found.get(k, ())]
+    return group_notes(notes, x.shape[1], label, noun, budget.estimate_warnings)
+
+
+def group_notes(
+    notes: Sequence[tuple[int, str]],
+    count: int,
+    label: Label,
+    noun: str,
+    known: Iterable[str] = (),
+) -> tuple[str, ...]:
+    """One warning per kind of finding: the first point's text, with where and how often.
+
+    Findings of the same kind differ only in their numbers; they are grouped by their text
+    with the numbers masked. A kind the budget itself already warns about (``known``) is
+    left out: the budget's own warnings are shown anyway.
+    """
+    known_kinds = {_kind(w) for w in known}
+    groups: dict[str, list[tuple[int, str]]] = {}
+    for j, text in sorted(notes, key=lambda item: item[0]):
+        groups.setdefault(_kind(text), []).append((j, text))
+    out = []
+    for kind, items in groups.items():
+        if kind in known_kinds:
+            continue
+        j, text = items[0]
+        points = sorted({i for i, _t in items})
+        more = f" and {len(points) - 1} more of the {count} {noun}" if len(points) > 1 else ""
+        out.append(f"{label(j)}{more}: {text}")
+    return tuple(out)
+
+
+def _kind(text: str) -> str:
+    """A warning's text with its numbers masked (what kind of finding it is); digits inside
+    a name (``x1``, ``u(x2)``) are kept."""
+    return _NUMBER.sub("#", text)
+
+
+_NUMBER = re.compile(r"(?<![A-Za-z_\d.])[-+]?\d[\d.]*(?:e[-+]?\d+)?")
+
+
+def reaches_past_zero(values: np.ndarray, uncertainties: np.ndarray) -> np.ndarray:
+    """u(x) ≥ |x| for a non-zero x: the distribution of an input reaches past zero."""
+    v = np.asarray(values, dtype=float)
+    return (v != 0) & (np.asarray(uncertainties, dtype=float) >= np.abs(v))
+
+
+def interval_below_zero(value: np.ndarray, expanded_uncertainty: np.ndarray) -> np.ndarray:
+    """y − U < 0 < y: the coverage interval of a positive measurand reaches below zero."""
+    y = np.asarray(value, dtype=float)
+    return (y > 0) & (y - np.asarray(expanded_uncertainty, dtype=float) < 0)
+
+
+def point_plausibility(
+    budget: Budget,
+    x_si: np.ndarray,
+    u_si: np.ndarray,
+    value: np.ndarray,
+    expanded_uncertainty: np.ndarray,
+    label: Label,
+    noun: str = "points",
+    known: Iterable[str] = (),
+) -> tuple[str, ...]:
+    """The plausibility warnings of :func:`uncertainty_warnings` at many points at once.
+
+    ``x_si``, ``u_si`` are inputs × points (SI), ``value`` and ``expanded_uncertainty`` the
+    measurand per point in ``budget.unit``. The rules are tested on the whole grid; the
+    sentence of the first point of each rule is written by :func:`uncertainty_warnings`.
+    Kinds of warning already in ``known`` (the budget's own) are left out.
+    """
+    x, u = np.asarray(x_si, dtype=float), np.asarray(u_si, dtype=float)
+    bound = set(budget.sign_bound)
+    rows = [i for i, n in enumerate(budget.input_names) if n in bound]
+    conv = budget.input_conversions
+    shape = (len(rows), x.shape[1])
+    own_x = np.array([(x[i] - conv[i][1]) / conv[i][0] for i in rows]).reshape(shape)
+    own_u = np.array([u[i] / conv[i][0] for i in rows]).reshape(shape)
+    flags = reaches_past_zero(own_x, own_u)
+    below = budget.positive_measurand & interval_below_zero(value, expanded_uncertainty)
+    notes: list[tuple[int, str]] = []
+    columns = set(np.flatnonzero(flags.any(axis=0) | below).tolist())
+    for j in sorted(columns):
+        qs = [_Quantity(budget.input_names[i], float(own_x[k, j]), budget.inputs[i].unit,
+                        float(own_u[k, j])) for k, i in enumerate(rows)]  # fmt: skip
+        texts = uncertainty_warnings(
+            qs, budget.measurand, float(np.ravel(value)[j]),
+            float(np.ravel(expanded_uncertainty)[j]), budget.positive_measurand, bound,
+            budget.unit,
+        )  # fmt: skip
+        notes += [(j, t) for t in texts]
+    return group_notes(notes, x.shape[1], label, noun, known)
+
+
+class _Quantity(NamedTuple):
+    """What a plausibility check needs of an input at one point."""
+
+    name: str
+    value: float
+    unit: str
+    standard_uncertainty: float
+
+
+def underflow(
+    budget: Budget,
+    x_si: np.ndarray,
+    constants_si: np.ndarray,
+    value: np.ndarray,
+    gradient: np.ndarray,
+    label: Label,
+) -> tuple[str | None, tuple[tuple[int, int, float], ...]]:
+    """Find model values and sensitivity coefficients that underflowed.
+
+    A model value or a sensitivity coefficient that comes out 0 or below the smallest
+    normal float (2.2e-308) at non-zero inputs may be a true zero or an underflow (r⁴ with
+    r = 1e-90 m is 1e-360, which no float holds; an intermediate value may also underflow).
+    Such entries — at most :data:`EXACT_CHECKS` points per quantity — are evaluated again
+    with the same formula in arbitrary-exponent arithmetic (mpmath, 80 bits), which tells
+    the two apart. Plain floats are not trusted here: numpy's error state only sees numpy
+    operations, and the model's lambdified code may run on Python floats.
+
+    Parameters
+    ----------
+    budget : Budget
+    x_si : (N, P) array
+        Estimates per point, SI.
+    constants_si : (K,) array
+    value : (P,) array
+        The model value per point, SI.
+    gradient : (N, P) array
+        The sensitivity coefficients per point, SI.
+    label : callable
+        ``label(j)`` says where point j is (``"at the input estimates"``).
+
+    Returns
+    -------
+    message : str or None
+        Why the model value cannot be represented at the first such point (the caller
+        raises it as a :class:`~viscometry.errors.ModelError`).
+    lost : tuple of (input index, point, log10 |cᵢ|)
+        Sensitivity coefficients that underflowed, with their exact size; see
+        :func:`lost_contributions` for what they mean for the result.
+    """
+    x = np.asarray(x_si, dtype=float)
+    x = x.reshape(len(budget.inputs), -1)
+    y = np.ravel(np.asarray(value, dtype=float))
+    g = np.asarray(gradient, dtype=float).reshape(x.shape[0], -1)
+    model = budget.model
+    message = None
+    for j in np.flatnonzero(np.abs(y) < SMALLEST_NORMAL)[:EXACT_CHECKS].tolist():
+        exact = _exact_log10(model, model.expression, x[:, j], constants_si)
+        if exact is None or exact == -math.inf or _agrees(float(y[j]), exact):
+            continue
+        size = magnitude(exact)
+        if exact < math.log10(SMALLEST_KEPT):
+            message = (
+                f"the model value {model.output_name} {label(j)} is about {size} in SI units, "
+                f"too small for a floating-point number (underflow below {SMALLEST_KEPT:.1g}); "
+                "the engine works in SI units, so check the estimates"
+            )
+        else:
+            message = (
+                f"an intermediate value of the model underflows {label(j)}: "
+                f"{model.output_name} is about {size} in SI units but evaluates to "
+                f"{float(y[j])!r}; check the estimates, or write the formula so that no "
+                f"intermediate value falls below {SMALLEST_NORMAL:.2g}"
+            )
+        break
+    lost = []
+    derivatives = budget.compiled.derivatives
+    for i, d in enumerate(derivatives):
+        if d == 0:  # an input the model does not use: its zero is exact
+            continue
+        for j in np.flatnonzero(np.abs(g[i]) < SMALLEST_NORMAL)[:EXACT_CHECKS].tolist():
+            exact = _exact_log10(model, d, x[:, j], constants_si)
+            if exact is not None and exact > -math.inf and not _agrees(float(g[i, j]), exact):
+                lost.append((i, j, exact))
+    return message, tuple(lost)
+
+
+def _agrees(value: float, exact_log10: float) -> bool:
+    """Whether a float holds a number of size 10**exact_log10 to 1 part in 10⁶ (a subnormal
+    above :data:`SMALLEST_KEPT` does; an underflowed 0 or a subnormal far below does not)."""
+    return value != 0 and abs(math.log10(abs(value)) - exact_log10) < 4e-7
+
+
+def lost_contributions(
+    budget: Budget,
+    lost: Sequence[tuple[int, int, float]],
+    u_si: np.ndarray,
+    log10_uncertainty: np.ndarray,
+    label: Label,
+) -> tuple[str | None, tuple[str, ...]]:
+    """What underflowed sensitivity coefficients (from :func:`underflow`) mean for u_c.
+
+    The contribution |cᵢ|·u(xᵢ) of such an input is counted as (almost) 0. When its exact
+    size is below 2⁻²⁷ of u_c, its square is below the resolution of u_c²: the result stays
+    right and only the input's share is lost (a warning). Otherwise u_c would be wrong: an
+    error message naming the input.
+
+    Returns
+    -------
+    message : str or None
+    warnings : tuple of str
+    """
+    if not lost:
+        return None, ()
+    u = np.asarray(u_si, dtype=float).reshape(len(budget.inputs), -1)
+    log_uc = np.ravel(np.asarray(log10_uncertainty, dtype=float))
+    notes = []
+    for i, j, log_c in lost:
+        if u[i, j] == 0:
+            continue
+        name = budget.input_names[i]
+        size = log_c + math.log10(u[i, j])
+        ratio = size - float(log_uc[j])
+        what = (
+            f"the sensitivity coefficient of {name} {label(j)} is about {magnitude(log_c)} "
+            f"in SI units, too small for a floating-point number (underflow)"
+        )
+        if not ratio < 27 * math.log10(0.5):
+            return (
+                f"{what}; its contribution c·u({name}) ≈ {magnitude(size)} cannot be "
+                "counted, so u_c would be wrong; the engine works in SI units, so check the "
+                "estimates"
+            ), ()
+        notes.append(
+            f"{what}; its contribution ≈ {magnitude(size)} is counted as 0 and its share is "
+            f"lost, but it is below 10^{ratio:.0f} of u_c, so u_c is not affected"
+        )
+    return None, tuple(notes)
+
+
+@functools.lru_cache(maxsize=128)
+def _exact_function(expression: sp.Expr, symbols: tuple[sp.Symbol, ...]) -> Callable[..., Any]:
+    return sp.lambdify(symbols, expression, modules="mpmath")
+
+
+def _exact_log10(
+    model: Any, expression: sp.Expr, x: np.ndarray, constants: np.ndarray
+) -> float | None:
+    """log10 |expression| at x (SI) in arbitrary-exponent arithmetic; None if it fails."""
+    import mpmath
+
+    symbols = tuple(model.symbol(n) for n in (*model.input_names, *model.constant_names))
+    try:
+        fn = _exact_function(expression, symbols)
+        with mpmath.workprec(80):
+            v = fn(*(mpmath.mpf(float(a)) for a in (*x, *constants)))
+            if isinstance(v, mpmath.mpc):
+                if v.imag != 0:
+                    return None
+                v = v.real
+            v = mpmath.mpf(v)
+            if not mpmath.isfinite(v):
+                return None
+            return -math.inf if v == 0 else float(mpmath.log10(abs(v)))
+    except Exception:  # noqa: BLE001 - a second opinion only: no answer means no finding
+        return None
+
+
+def check_propagation(
+    budget: Budget,
+    prop: Propagation,
+    u_si: np.ndarray,
+    lost: Sequence[tuple[int, int, float]],
+    label: Label,
+    *,
+    units: str = "SI units",
+    log10_to_si: float = 0.0,
+) -> tuple[str, ...]:
+    """Refuse a propagation whose u_c or U cannot be represented; notes of lost shares.
+
+    Called after :func:`~viscometry.gum.propagation.propagate` on every path (a budget's
+    evaluation, the fast what-if, working ranges, upgrade sets, the target solver).
+
+    Parameters
+    ----------
+    budget : Budget
+    prop : Propagation
+        One budget or one column per point.
+    u_si : (N,) or (N, P) array
+        The standard uncertainties, SI units.
+    lost : sequence
+        Underflowed sensitivity coefficients from :func:`underflow`.
+    label : callable
+        ``label(j)`` says where point j is (``"at the input estimates"``).
+    units : str
+        The units ``prop`` is in, for the message.
+    log10_to_si : float
+        log₁₀ of the factor from those units to SI (0 for SI).
+
+    Returns
+    -------
+    tuple of str
+        Warnings about sensitivity coefficients whose (negligible) share is lost.
+
+    Raises
+    ------
+    ModelError
+        Naming the point, the size of u_c and the input with the largest contribution.
+    """
+    from viscometry.errors import ModelError
+
+    problem = representation_problem(prop)
+    if problem is not None:
+        j, text = problem
+        shares = np.asarray(prop.variance_shares, dtype=float).reshape(len(budget.inputs), -1)
+        top = budget.input_names[int(np.argmax(np.nan_to_num(shares[:, j], nan=np.inf)))]
+        raise ModelError(
+            f"the combined standard uncertainty cannot be computed {label(j)}: {text} in "
+            f"{units} (largest contribution from {top}); the engine works in SI units, so "
+            "check the estimates and uncertainties"
+        )
+    if not lost:
+        return ()
+    log_uc = np.asarray(prop.log10_uncertainty, dtype=float) + log10_to_si
+    message, notes = lost_contributions(budget, lost, u_si, log_uc, label)
+    if message is not None:
+        raise ModelError(message)
+    return notes
+
+
+def exact_value_note(
+    budget: Budget, expression: sp.Expr, x_si: np.ndarray, constants_si: np.ndarray
+) -> str:
+    """``"; its exact value is about 2e-210 in SI units: an intermediate value under- or
+    overflows in floating point"`` when ``expression`` (the model or a derivative), which
+    gave a non-finite float at ``x_si``, is finite in exact-exponent arithmetic; else ``""``.
+    """
+    exact = _exact_log10(budget.model, expression, np.ravel(x_si), constants_si)
+    if exact is None:
+        return ""
+    return (
+        f"; its exact value is about {magnitude(exact)} in SI units: an intermediate value "
+        "under- or overflows in floating point"
+    )
