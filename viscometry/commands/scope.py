@@ -77,7 +77,8 @@ def run(args: argparse.Namespace) -> int:
             "schema": schema("scope"), "measurand": res.measurand, "unit": res.unit,
             "over": res.over, "over_unit": res.over_unit, "points": table.to_dict(orient="records"),
             "scope": None if scope is None else scope.to_dict(orient="records"),
-            "warnings": list(res.warnings), "fingerprint": bf.fingerprint,
+            "warnings": list(res.warnings), "point_warnings": list(res.point_warnings),
+            "fingerprint": bf.fingerprint,
         }, source=bf.source)  # fmt: skip
         return 0
     unit, over_unit = format_unit(res.unit) or "1", format_unit(res.over_unit) or "1"
@@ -94,4 +95,6 @@ def run(args: argparse.Namespace) -> int:
         print(scope.to_string(index=False, float_format=lambda v: f"{v:.5g}"))
     for w in res.warnings:
         print(f"warning: {one_line(w)}")
+    for w in res.point_warnings:  # "at t = 1.0 (point 1 of the range) and 4 more ...: ..."
+        print(f"warning {one_line(w)}")
     return 0

@@ -704,9 +704,9 @@ def check_propagation(
         shares = np.asarray(prop.variance_shares, dtype=float).reshape(len(budget.inputs), -1)
         top = budget.input_names[int(np.argmax(np.nan_to_num(shares[:, j], nan=np.inf)))]
         raise ModelError(
-            f"the combined standard uncertainty cannot be computed {label(j)}: {text} in "
-            f"{units} (largest contribution from {top}); the engine works in SI units, so "
-            "check the estimates and uncertainties"
+            f"the combined standard uncertainty cannot be computed {label(j)}: in {units}, "
+            f"{text}; the largest contribution is from {top}; the engine works in SI units, "
+            "so check the estimates and uncertainties"
         )
     if not lost:
         return ()

@@ -63,10 +63,16 @@ class RequiredUncertainty:
     solver: Solver
 
 
+def _sensitivities(budget: Budget) -> np.ndarray:
+    """cᵢ at the estimates (SI)."""
+    x, _u, _nu, c = budget.si_arrays()
+    return budget.compiled.gradient(*x, *c)
+
+
 def _cases(budget: Budget, i: int, u_i_si: np.ndarray) -> np.ndarray:
     """U (SI) of the budget with u(xᵢ) set to each of ``u_i_si`` (one kernel call)."""
-    x, u, nu, c = budget.si_arrays()
-    grad = budget.compiled.gradient(*x, *c)
+    _x, u, nu, _c = budget.si_arrays()
+    grad = _sensitivities(budget)
     m = len(u_i_si)
     uu = np.repeat(u[:, None], m, axis=1)
     uu[i] = u_i_si
@@ -77,17 +83,31 @@ def _cases(budget: Budget, i: int, u_i_si: np.ndarray) -> np.ndarray:
     return prop.expanded_uncertainty
 
 
-def _quadratic(budget: Budget, i: int) -> tuple[float, float, float]:
-    """a, b, d with u_c²(uᵢ) = a uᵢ² + 2 b uᵢ + d (SI; JCGM 100:2008, eq. 16)."""
-    x, u, _nu, c = budget.si_arrays()
-    grad = budget.compiled.gradient(*x, *c)
+def _largest_u(budget: Budget, i: int, sigma: float) -> float:
+    """The largest u(xᵢ) (SI) with u_c ≤ ``sigma`` (SI), all else unchanged; ``inf`` when u_c
+    does not depend on u(xᵢ) and is below ``sigma`` anyway; NaN when no u(xᵢ) ≥ 0 reaches it.
+
+    With wᵢ = |cᵢ|u(xᵢ)/σ, β = sign(cᵢ)·Σⱼ≠ᵢ r(xᵢ,xⱼ)cⱼu(xⱼ)/σ and ρ = 1 − Σⱼₖ≠ᵢ (cⱼu(xⱼ)/σ)
+    r(xⱼ,xₖ)(cₖu(xₖ)/σ), u_c² ≤ σ² reads wᵢ² + 2βwᵢ ≤ ρ (JCGM 100:2008, eq. 16, divided by
+    σ²): the largest root is wᵢ = −β + √(β² + ρ). Every number is relative to the target,
+    so no square of a very small or very large uncertainty under- or overflows.
+    """
+    _x, u, _nu, _c = budget.si_arrays()
+    grad = _sensitivities(budget)
     r = budget.correlation_matrix
-    r_row = r[i] if r is not None else np.eye(len(u))[i]
-    others = grad * u
-    others[i] = 0.0
-    b = float(grad[i] * (r_row @ others))
-    d = float(np.sum(others**2)) if r is None else float(others @ r @ others)
-    return float(grad[i] ** 2), b, d
+    r = np.eye(len(u)) if r is None else r
+    with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+        others = grad * u / sigma
+        others[i] = 0.0
+        rho = 1.0 - float(others @ r @ others)
+        if grad[i] == 0:
+            return math.inf if rho >= 0 else math.nan
+        beta = math.copysign(1.0, float(grad[i])) * float(r[i] @ others)
+        disc = beta * beta + rho
+        w = -beta + math.sqrt(disc) if disc >= 0 and math.isfinite(disc) else math.nan
+        if not w >= 0:
+            return math.nan
+        return w * (sigma / abs(float(grad[i])))
 
 
 def required_uncertainty(budget: Budget, name: str, target_U: float) -> RequiredUncertainty:
@@ -109,6 +129,8 @@ def required_uncertainty(budget: Budget, name: str, target_U: float) -> Required
     ------
     InputError
         Unknown input or a non-positive target.
+    ModelError
+        The budget as it stands cannot be evaluated (as :meth:`Budget.evaluate`).
 
     Notes
     -----
@@ -139,8 +161,8 @@ def required_uncertainty(budget: Budget, name: str, target_U: float) -> Required
         raise InputError(f"target_U must be positive, got {target!r}")
     i = budget.input_names.index(name)
     out_s, scale = budget.output_scale, budget.input_scales[i]
-    a, b, d = _quadratic(budget, i)
     t_si = target * out_s
+    budget.linearise().expanded_uncertainty  # noqa: B018 - refuses what evaluate() refuses
     current = float(_cases(budget, i, np.array([q.standard_uncertainty * scale]))[0]) / out_s
     floor = float(_cases(budget, i, np.array([0.0]))[0]) / out_s
     nu = np.array([p.dof for p in budget.inputs])
@@ -148,10 +170,10 @@ def required_uncertainty(budget: Budget, name: str, target_U: float) -> Required
     if budget.coverage_factor is not None or bool(np.all(np.isinf(nu))):
         solver = "closed form"
         k = budget.coverage_factor or coverage_factor_for(budget.coverage_probability)
-        req = _largest_root(a, b, (t_si / k) ** 2 - d, scale)
+        req = _largest_u(budget, i, t_si / k) / scale
     else:
         solver = "root finding"
-        req = _root_find(budget, i, t_si, a, b, d, scale)
+        req = _root_find(budget, i, t_si, scale)
     return RequiredUncertainty(
         name=name, unit=q.unit, target=target, measurand_unit=budget.unit,
         current_uncertainty=q.standard_uncertainty, current_expanded_uncertainty=current,
@@ -160,26 +182,15 @@ def required_uncertainty(budget: Budget, name: str, target_U: float) -> Required
     )  # fmt: skip
 
 
-def _largest_root(a: float, b: float, rhs: float, scale: float) -> float:
-    """Largest uᵢ (own unit) with a uᵢ² + 2 b uᵢ ≤ rhs; inf if a = 0 and met; NaN if none."""
-    if a == 0:
-        return math.inf if rhs >= 0 else math.nan
-    disc = b * b + a * rhs
-    root = (-b + math.sqrt(disc)) / a if disc >= 0 else -math.inf
-    return root / scale if root >= 0 else math.nan
-
-
-def _root_find(
-    budget: Budget, i: int, t_si: float, a: float, b: float, d: float, scale: float
-) -> float:
+def _root_find(budget: Budget, i: int, t_si: float, scale: float) -> float:
     """Largest u(xᵢ) (own unit) with U ≤ target when k depends on ν_eff; NaN if none."""
     tol = t_si * TARGET_TOLERANCE
-    if a == 0:
+    if _sensitivities(budget)[i] == 0:
         u_now = budget.si_arrays()[1][i]
         return math.inf if _cases(budget, i, np.array([u_now]))[0] <= t_si + tol else math.nan
     z = coverage_factor_for(budget.coverage_probability)  # t_p(ν) ≥ z_p for every ν
-    bound = _largest_root(a, b, (t_si / z) ** 2 - d, 1.0)
-    if math.isnan(bound):
+    bound = _largest_u(budget, i, t_si / z)
+    if not math.isfinite(bound):
         return math.nan
     grid = np.linspace(0.0, 1.01 * bound + 1e-300, 4097)
 
@@ -193,19 +204,24 @@ def _root_find(
     if last == len(grid) - 1:  # cannot happen: U(upper) > target by construction
         return float(grid[-1]) / scale
     lo, hi = grid[last], grid[last + 1]
+    # Brent's method multiplies function values: it runs on the relative excess and on u(xᵢ)
+    # in units of a power of two near the bracket (exact), so that no product under- or
+    # overflows for a budget of very small or very large numbers.
+    unit = math.ldexp(1.0, math.frexp(float(hi))[1])
 
-    def g(v: float) -> float:
-        return float(excess(np.array([v]))[0])
+    def g(s: float) -> float:
+        return float(excess(np.array([s * unit]))[0]) / t_si
 
-    if g(lo) == 0:
+    s_lo, s_hi = float(lo) / unit, float(hi) / unit
+    if g(s_lo) == 0:
         return float(lo) / scale
-    root = optimize.brentq(g, lo, hi, xtol=1e-15 * max(hi, 1e-300), rtol=4 * np.finfo(float).eps)
+    root = optimize.brentq(g, s_lo, s_hi, xtol=1e-15 * s_hi, rtol=4 * np.finfo(float).eps)
     # On a step of k the root can land just above the target; step back into the feasible side.
-    if g(root) > tol:
-        root = lo + (root - lo) * (1 - 1e-12)
-        if g(root) > tol:
-            root = lo
-    return float(root) / scale
+    if g(root) > TARGET_TOLERANCE:
+        root = s_lo + (root - s_lo) * (1 - 1e-12)
+        if g(root) > TARGET_TOLERANCE:
+            root = s_lo
+    return float(root) * unit / scale
 
 
 def required_uncertainties(budget: Budget, target_U: float) -> tuple[RequiredUncertainty, ...]:

@@ -24,10 +24,16 @@ import numpy as np
 
 from viscometry import units as _units
 from viscometry._checks import finite as _number
-from viscometry.errors import InputError, ViscometryError
+from viscometry.errors import InputError, ModelError, ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import InputQuantity
 from viscometry.gum.propagation import propagate
+from viscometry.gum.validity import (
+    check_points,
+    check_propagation,
+    point_plausibility,
+    underflow,
+)
 
 __all__ = [
     "TARGET_TOLERANCE",
@@ -345,8 +351,9 @@ def _positive_target(target: object) -> float:
 
 
 def _check_candidates(candidates: Sequence[UpgradeCandidate], budget: Budget) -> list[str]:
-    """Refuse duplicate names, unknown inputs and replacements the budget refuses; return the
-    warnings of the budgets that a candidate's new estimates make."""
+    """Refuse duplicate names, unknown inputs and replacements the budget refuses (each is
+    built as a budget). The warnings of the sets are found by :func:`_evaluate`, which
+    checks every set at once; none are returned here."""
     seen: set[str] = set()
     notes: list[str] = []
     for c in candidates:
@@ -370,14 +377,9 @@ def _check_candidates(candidates: Sequence[UpgradeCandidate], budget: Budget) ->
                     f"of the same kind as {old.unit!r}"
                 )
             try:
-                changed = budget.with_input(change)
+                budget.with_input(change)
             except ViscometryError as exc:
                 raise InputError(f"candidate {c.name!r}: {exc}") from None
-            notes += [
-                f"with candidate {c.name!r}: {w}"
-                for w in changed.estimate_warnings
-                if w not in budget.estimate_warnings
-            ]
     return notes
 
 
@@ -437,8 +439,15 @@ def _evaluate(
     masks: np.ndarray,
     target: float | None,
     u_base: float,
+    notes: list[str] | None = None,
+    known: tuple[str, ...] = (),
 ) -> tuple[UpgradeOption, ...]:
-    """Evaluate many candidate sets (boolean masks, shape (S, n)) in one vectorised pass."""
+    """Evaluate many candidate sets (boolean masks, shape (S, n)) in one vectorised pass.
+
+    Every set is checked as a budget with its estimates and uncertainties would be (the
+    built-in model's refusals and validity checks, numbers a float cannot hold, the
+    plausibility rules); warnings not already in ``known`` are added to ``notes``.
+    """
     x0, u0, nu0, const = budget.si_arrays()
     n_sets = masks.shape[0]
     x, u, nu = (np.repeat(a[:, None], n_sets, axis=1) for a in (x0, u0, nu0))
@@ -451,6 +460,14 @@ def _evaluate(
         u[i], x[i], nu[i] = (
             np.where(on, opts[win, col], base[i]) for col, base in ((1, u0), (2, x0), (3, nu0))
         )
+
+    def label(j: int) -> str:
+        chosen = [repr(c.name) for c, m in zip(candidates, masks[j], strict=True) if m]
+        if not chosen:
+            return "for the baseline"
+        return f"with candidate{'s' if len(chosen) > 1 else ''} {' + '.join(chosen)}"
+
+    found = list(check_points(budget, x, u, label, noun="sets"))
     comp = budget.compiled
     if np.any(x != x0[:, None]):  # estimates differ between sets: value and gradient per set
         y = np.broadcast_to(comp.value(*x, *const), (n_sets,))
@@ -463,10 +480,21 @@ def _evaluate(
     else:  # sensitivities are those of the baseline (JCGM 100:2008, 5.1.3)
         y = np.full(n_sets, float(comp.value(*x0, *const)))
         grad = np.repeat(comp.gradient(*x0, *const)[:, None], n_sets, axis=1)
+    message, lost = underflow(budget, x, const, y, grad, label)
+    if message is not None:
+        raise ModelError(message)
     prop = propagate(
         grad, u, nu, budget.correlation_matrix,
         coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
     )  # fmt: skip
+    found += check_propagation(budget, prop, u, lost, label)
+    out_s = budget.output_scale
+    found += point_plausibility(
+        budget, x, u, (y - budget.output_offset) / out_s, prop.expanded_uncertainty / out_s,
+        label, noun="sets", known=known,
+    )  # fmt: skip
+    if notes is not None:
+        notes += [n for n in found if n not in notes]
     return _options(budget, candidates, masks, prop, y, target, u_base)
 
 
@@ -481,7 +509,7 @@ def _options(budget, candidates, masks, prop, y_si, target, u_base) -> tuple[Upg
             cost > 0, reduction / np.where(cost > 0, cost, 1.0), np.sign(reduction) * np.inf
         )
     per_cost = np.where((cost == 0) & (reduction == 0), 0.0, per_cost)
-    dom = np.argmax(np.abs(prop.contributions), axis=0)
+    dom = np.argmax(prop.variance_shares, axis=0)
     opts = (
         UpgradeOption(
             candidates=tuple(nm for nm, m in zip(names, masks[s], strict=True) if m),
@@ -587,26 +615,36 @@ def evaluate_upgrades(
     baseline = budget.evaluate()
     n = len(candidates)
     path: tuple[UpgradeOption, ...] = ()
+    known = baseline.warnings + tuple(notes)
     if n <= max_exhaustive:
         search: Search = "exhaustive"
         idx = np.arange(2**n)
         masks = ((idx[:, None] >> np.arange(n)[None, :]) & 1).astype(bool)
-        options = _evaluate(budget, candidates, masks, target, baseline.expanded_uncertainty)
+        options = _evaluate(
+            budget, candidates, masks, target, baseline.expanded_uncertainty, notes, known
+        )
     else:
         search = "greedy"
-        options, path = _greedy(budget, candidates, target, baseline.expanded_uncertainty)
+        options, path = _greedy(
+            budget, candidates, target, baseline.expanded_uncertainty, notes, known
+        )
     plan = UpgradePlan(baseline, candidates, options, search, target, None, path,
                        baseline.warnings + tuple(notes))  # fmt: skip
     return plan.with_target(target)
 
 
 def _greedy(
-    budget: Budget, candidates: Sequence[UpgradeCandidate], target: float | None, u_base: float
+    budget: Budget,
+    candidates: Sequence[UpgradeCandidate],
+    target: float | None,
+    u_base: float,
+    notes: list[str],
+    known: tuple[str, ...],
 ) -> tuple[tuple[UpgradeOption, ...], tuple[UpgradeOption, ...]]:
     n = len(candidates)
     costs = np.array([c.cost for c in candidates])
     current = np.zeros(n, dtype=bool)
-    start = _evaluate(budget, candidates, current[None, :], target, u_base)[0]
+    start = _evaluate(budget, candidates, current[None, :], target, u_base, notes, known)[0]
     seen: dict[tuple[bool, ...], UpgradeOption] = {tuple(current): start}
     current_u = start.expanded_uncertainty
     path: list[UpgradeOption] = []
@@ -614,7 +652,7 @@ def _greedy(
         remaining = np.flatnonzero(~current)
         masks = np.repeat(current[None, :], len(remaining), axis=0)
         masks[np.arange(len(remaining)), remaining] = True
-        step = _evaluate(budget, candidates, masks, target, u_base)
+        step = _evaluate(budget, candidates, masks, target, u_base, notes, known)
         for m, o in zip(masks, step, strict=True):
             seen.setdefault(tuple(m), o)
         gain = current_u - np.array([o.expanded_uncertainty for o in step])

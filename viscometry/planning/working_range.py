@@ -17,11 +17,17 @@ from typing import Any, Literal
 import numpy as np
 
 from viscometry._checks import finite as _number
-from viscometry.errors import InputError
+from viscometry.errors import InputError, ModelError
 from viscometry.gum.budget import Budget
 from viscometry.gum.linearised import frozen_array
-from viscometry.gum.propagation import propagate
+from viscometry.gum.propagation import SMALLEST_NORMAL, propagate
 from viscometry.gum.result import OfBudget
+from viscometry.gum.validity import (
+    check_points,
+    check_propagation,
+    point_plausibility,
+    underflow,
+)
 
 __all__ = [
     "MAX_POINTS",
@@ -63,6 +69,10 @@ class WorkingRange(OfBudget):
         Input with the largest |cᵢu(xᵢ)| per point.
     warnings : tuple of str
         The budget's warnings, as its own evaluation gives them.
+    point_warnings : tuple of str
+        What the budget's checks say at points of the range but not at its own estimates
+        (a validity check of a built-in model, an uncertainty reaching past zero, an
+        interval below zero...), each naming the first such point and how many there are.
     """
 
     budget: Budget
@@ -77,6 +87,7 @@ class WorkingRange(OfBudget):
     contributions: np.ndarray
     dominant: tuple[str, ...]
     warnings: tuple[str, ...] = ()
+    point_warnings: tuple[str, ...] = ()
 
     @property
     def input_names(self) -> tuple[str, ...]:
@@ -91,9 +102,13 @@ class WorkingRange(OfBudget):
     @property
     def variance_shares(self) -> np.ndarray:
         """(cᵢu(xᵢ))²/u_c² per point and input (shape (points, inputs))."""
-        uc2 = self.standard_uncertainty[:, None] ** 2
-        with np.errstate(divide="ignore", invalid="ignore"):
-            return np.where(uc2 > 0, self.contributions**2 / uc2, 0.0)
+        uc = self.standard_uncertainty[:, None]
+        with np.errstate(all="ignore"):
+            uc2 = uc**2
+            # u_c² under- or overflows outside the normal range: the same ratio, scaled first
+            normal = (uc2 >= SMALLEST_NORMAL) & np.isfinite(uc2)
+            ratio = np.where(normal, self.contributions**2 / uc2, (self.contributions / uc) ** 2)
+            return np.where(uc > 0, ratio, 0.0)
 
     def table(self) -> Any:
         """One row per point (snake_case columns, numbers): ``input_value`` (of
@@ -103,7 +118,7 @@ class WorkingRange(OfBudget):
         import pandas as pd
 
         shares = self.variance_shares
-        dom_idx = np.argmax(np.abs(self.contributions), axis=1)
+        dom_idx = np.argmax(shares, axis=1)
         return pd.DataFrame(
             {
                 "input_value": self.values,
@@ -194,6 +209,11 @@ def working_range(
     q = budget.input(over)
     values = _points(start, stop, points, spacing)
     x, u = _columns(budget, q.name, values, adjust)
+
+    def label(j: int) -> str:
+        return f"at {q.name} = {float(values[j])!r} (point {j + 1} of the range)"
+
+    notes = check_points(budget, x, u, label)
     _x0, _u0, nu, const = budget.si_arrays()
     comp = budget.compiled
     y = np.broadcast_to(comp.value(*x, *const), values.shape)
@@ -201,27 +221,32 @@ def working_range(
     bad = ~(np.isfinite(y) & np.isfinite(grad).all(axis=0))
     if np.any(bad):
         first = int(np.argmax(bad))
-        raise InputError(
-            f"the model or a sensitivity is not finite at {q.name} = {float(values[first])!r} "
-            f"(point {first + 1} of the range)"
-        )
+        raise InputError(f"the model or a sensitivity is not finite {label(first)}")
+    message, lost = underflow(budget, x, const, y, grad, label)
+    if message is not None:
+        raise ModelError(message)
     prop = propagate(
         grad, u, nu, budget.correlation_matrix,
         coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
     )  # fmt: skip
+    notes += check_propagation(budget, prop, u, lost, label)
     out_s = budget.output_scale
     contributions = (prop.contributions / out_s).T
-    dom = np.argmax(np.abs(contributions), axis=1)
+    dom = np.argmax(np.abs(prop.variance_shares.T), axis=1)
+    value = (y - budget.output_offset) / out_s
+    big_u = prop.expanded_uncertainty / out_s
+    own = budget.linearise().warnings
+    notes += point_plausibility(budget, x, u, value, big_u, label, known=own)
     return WorkingRange(
         budget=budget, over=q.name, over_unit=q.unit, values=frozen_array(values),
-        value=frozen_array((y - budget.output_offset) / out_s),
+        value=frozen_array(value),
         standard_uncertainty=frozen_array(prop.standard_uncertainty / out_s),
         effective_dof=frozen_array(prop.effective_dof),
         coverage_factor=frozen_array(prop.coverage_factor),
-        expanded_uncertainty=frozen_array(prop.expanded_uncertainty / out_s),
+        expanded_uncertainty=frozen_array(big_u),
         contributions=frozen_array(contributions),
         dominant=tuple(budget.input_names[int(d)] for d in dom),
-        warnings=budget.linearise().warnings,
+        warnings=own, point_warnings=tuple(notes),
     )  # fmt: skip
 
 
