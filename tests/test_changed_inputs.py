@@ -46,19 +46,15 @@ def capillary() -> Budget:
     return load_budget(PRESSURE).budget
 
 
+PRODUCT = load_budget(ROOT / "tests" / "data" / "product_three_inputs.toml").budget
+
+
 def product(factor: float = 1.0, **settings: object) -> Budget:
-    """y = a·b/c with a and u(a) scaled by ``factor`` (finite dofs: k = t_p(ν_eff))."""
-    return Budget.from_formula(
-        "y",
-        "a * b / c",
-        [
-            InputQuantity.normal("a", 2.0e6 * factor, 3.0e4 * factor, "1", dof=8),
-            InputQuantity.normal("b", 1.5, 0.002, "1"),
-            InputQuantity.normal("c", 0.8, 0.001, "1", dof=12),
-        ],
-        "1",
-        **settings,
-    )
+    """y = a·b/c (tests/data/product_three_inputs.toml) with a and u(a) scaled by ``factor``."""
+    a = PRODUCT.input("a")
+    scaled = PRODUCT.with_input(a.with_uncertainty(a.standard_uncertainty * factor,
+                                                   value=a.value * factor))  # fmt: skip
+    return scaled.with_settings(**settings)
 
 
 # ============================================================================ working ranges

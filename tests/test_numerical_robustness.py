@@ -15,6 +15,7 @@ from __future__ import annotations
 import json
 import math
 import warnings
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -30,6 +31,7 @@ from viscometry.gum import (
     validate_correlation,
 )
 from viscometry.gum.propagation import PSD_TOLERANCE
+from viscometry.io import load_budget
 from viscometry.io.json_out import dumps, result_to_dict
 from viscometry.text import statement
 
@@ -382,18 +384,13 @@ def test_built_in_viscometer_model_interval_below_zero_is_flagged():
 # input's estimate and uncertainty by a factor f scales y, every sensitivity coefficient of
 # the other inputs and every contribution by f, and leaves ν_eff and k unchanged: exact
 # analytic scaling is the source of the expected values below.
+PRODUCT = load_budget(Path(__file__).parent / "data" / "product_three_inputs.toml").budget
+
+
 def _product_budget(factor: float) -> Budget:
     """y = a·b/c with a (and u(a)) scaled by ``factor``; contributions ≈ 5e4, 5e3, 5e3 × f."""
-    return Budget.from_formula(
-        "y",
-        "a * b / c",
-        [
-            InputQuantity.normal("a", 2.0e6 * factor, 3.0e4 * factor, "1", dof=8),
-            InputQuantity.normal("b", 1.5, 0.002, "1"),
-            InputQuantity.normal("c", 0.8, 0.001, "1", dof=12),
-        ],
-        "1",
-    )
+    a = PRODUCT.input("a")
+    return PRODUCT.with_input(a.with_uncertainty(3.0e4 * factor, value=2.0e6 * factor))
 
 
 @pytest.mark.parametrize("factor", [1e-200, 1e-170, 1e150, 1e200])
@@ -593,3 +590,21 @@ def test_monte_carlo_spread_of_a_scaled_budget_is_not_lost(factor):
     )
     assert scaled.value == pytest.approx(factor * base.value, rel=1e-12)
     assert scaled.interval[1] == pytest.approx(factor * base.interval[1], rel=1e-12)
+
+
+def test_higher_order_terms_that_no_float_holds_are_refused_or_negligible():
+    # y = a·b with u(a) = u(b) = 1e-200, a = b = 1: first order u_c = √2·1e-200 (exact
+    # analytic); the second-order term ½(∂²y/∂a∂b)²u²(a)u²(b)·2 = 1e-800 is negligible next to
+    # u_c² = 2e-400, though u⁴ underflows: u_c stays √2·1e-200.
+    tiny = Budget.from_formula("y", "a * b", [InputQuantity.normal(n, 1.0, 1e-200) for n in "ab"])
+    r = tiny.evaluate(higher_order=True)
+    assert r.standard_uncertainty == pytest.approx(math.sqrt(2) * 1e-200, rel=1e-14)
+    # In the scaled product budget the second-order terms are 1e-5 of u_c² (regression
+    # value of the unscaled budget); at f = 1e-200 that variance (≈ 2e-396) is no float: a
+    # clear refusal instead of silently leaving the terms out.
+    with pytest.raises(ModelError, match=r"higher-order terms of the law of propagation are "
+                                         r"about 2\.1e-396 .* too small for a floating-point"):  # fmt: skip
+        _product_budget(1e-200).evaluate(higher_order=True)
+    # unscaled, nothing changes: the plain sum is used
+    plain = _product_budget(1.0).evaluate(higher_order=True)
+    assert plain.standard_uncertainty > plain.first_order_standard_uncertainty

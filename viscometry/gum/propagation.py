@@ -28,7 +28,7 @@ import numpy as np
 from scipy import special
 
 from viscometry._checks import finite as _finite
-from viscometry.errors import CorrelationError, InputError
+from viscometry.errors import CorrelationError, InputError, ModelError
 
 __all__ = [
     "DEFAULT_COVERAGE_PROBABILITY",
@@ -79,6 +79,9 @@ SMALLEST_KEPT = math.ldexp(1.0, -1048)
 #: have squares and fourth powers that neither overflow nor lose anything that matters
 #: next to the largest: the kernel then skips the (exact, but slower) scaling.
 _SAFE_LOW, _SAFE_HIGH = math.ldexp(1.0, -240), math.ldexp(1.0, 240)
+
+#: The largest float (1.8e308).
+_LARGEST = float(np.finfo(float).max)
 
 #: log10(2), to turn a binary exponent into a decimal magnitude for messages.
 _LOG10_2 = math.log10(2.0)
@@ -683,10 +686,64 @@ def higher_order_variance(
     gradient : (N,) array of ∂f/∂xᵢ
     hessian : (N, N) array of ∂²f/∂xᵢ∂xⱼ
     third : (N, N) array with ``third[i, j]`` = ∂³f/∂xᵢ∂xⱼ²
+
+    Raises
+    ------
+    ModelError
+        When the terms matter next to the first-order variance but no float can hold them.
+
+    Notes
+    -----
+    The terms are products of up to six numbers, which under- or overflow for budgets of
+    very small or very large numbers (u = 1e-200 gives u⁴ = 0). When any product leaves
+    the range where a float keeps its digits, the sum is taken again in arbitrary-exponent
+    arithmetic (mpmath): a variance a float holds is returned; one that is negligible next
+    to the first-order variance (below 2⁻⁶⁰ of it) gives 0; any other is refused.
+
+    Examples
+    --------
+    >>> round(higher_order_variance(np.array([0.1, 0.2]), np.array([2.0, 1.0]),
+    ...                             np.array([[0.0, 1.0], [1.0, 0.0]]), np.zeros((2, 2))), 15)
+    0.0004
     """
-    u2 = np.asarray(uncertainties, dtype=float) ** 2
+    u = np.asarray(uncertainties, dtype=float)
     h = np.asarray(hessian, dtype=float)
     t = np.asarray(third, dtype=float)
     g = np.asarray(gradient, dtype=float)
-    m = 0.5 * h * h + g[:, None] * t
-    return float(u2 @ m @ u2)
+    with np.errstate(all="ignore"):
+        u2 = u * u
+        m = 0.5 * h * h + g[:, None] * t
+        var = float(u2 @ m @ u2)
+        terms = u2[:, None] * m * u2[None, :]  # only to check that every product kept its digits
+    factors_ok = np.all((u == 0) | ((u2 >= SMALLEST_KEPT) & np.isfinite(u2)))
+    live = (u2[:, None] != 0) & (u2[None, :] != 0) & ((h != 0) | ((g[:, None] != 0) & (t != 0)))
+    terms_ok = np.all(np.isfinite(terms) & (~live | (np.abs(terms) >= SMALLEST_KEPT)))
+    if factors_ok and terms_ok and math.isfinite(var):
+        return var
+    return _exact_higher_order(u, g, h, t)
+
+
+def _exact_higher_order(u: np.ndarray, g: np.ndarray, h: np.ndarray, t: np.ndarray) -> float:
+    """:func:`higher_order_variance` summed in arbitrary-exponent arithmetic (see there)."""
+    import mpmath
+
+    with mpmath.workprec(80):
+        uu = [mpmath.mpf(float(v)) ** 2 for v in u]
+        n = len(uu)
+        total = mpmath.fsum(
+            (mpmath.mpf(float(h[i, j])) ** 2 / 2 + mpmath.mpf(float(g[i])) * float(t[i, j]))
+            * uu[i] * uu[j]
+            for i in range(n) for j in range(n)
+        )  # fmt: skip
+        first = mpmath.fsum((mpmath.mpf(float(g[i])) ** 2) * uu[i] for i in range(n))
+        if total == 0 or abs(total) < first * mpmath.ldexp(1, -60):
+            return 0.0  # nothing, or nothing a float of u_c² could show
+        size = magnitude(float(mpmath.log10(abs(total))))
+        if SMALLEST_KEPT <= abs(total) <= _LARGEST:
+            return float(total)
+    how = "small" if abs(total) < 1 else "large"
+    raise ModelError(
+        f"the higher-order terms of the law of propagation are about {size} (a variance, SI "
+        f"units), too {how} for a floating-point number; evaluate without the higher-order "
+        "terms or use the Monte Carlo method"
+    )

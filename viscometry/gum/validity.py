@@ -35,6 +35,7 @@ from viscometry.gum.propagation import (
     SMALLEST_NORMAL,
     Propagation,
     magnitude,
+    propagate,
     representation_problem,
 )
 
@@ -59,6 +60,7 @@ __all__ = [
     "lost_contributions",
     "check_propagation",
     "exact_value_note",
+    "propagate_points",
 ]
 
 
@@ -731,3 +733,33 @@ def exact_value_note(
         f"; its exact value is about {magnitude(exact)} in SI units: an intermediate value "
         "under- or overflows in floating point"
     )
+
+
+def propagate_points(
+    budget: Budget,
+    x_si: np.ndarray,
+    u_si: np.ndarray,
+    dofs: np.ndarray,
+    value: np.ndarray,
+    gradient: np.ndarray,
+    label: Label,
+) -> tuple[Propagation, tuple[str, ...]]:
+    """The propagation kernel on many variations of one budget, checked as its evaluation is.
+
+    Columns of ``x_si``, ``u_si`` (inputs × points, SI), ``value`` (SI) and ``gradient``
+    (SI) are the points of a working range or the sets of an upgrade plan; ``dofs`` are νᵢ
+    (per input, or inputs × points). A model value or sensitivity that underflowed
+    (:func:`underflow`), a u_c or U no float holds (:func:`check_propagation`) is refused
+    naming the point; the notes about lost, negligible shares are returned.
+    """
+    from viscometry.errors import ModelError
+
+    constants = budget.si_arrays()[3]
+    message, lost = underflow(budget, x_si, constants, value, gradient, label)
+    if message is not None:
+        raise ModelError(message)
+    prop = propagate(
+        gradient, u_si, dofs, budget.correlation_matrix,
+        coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
+    )  # fmt: skip
+    return prop, check_propagation(budget, prop, u_si, lost, label)

@@ -24,16 +24,10 @@ import numpy as np
 
 from viscometry import units as _units
 from viscometry._checks import finite as _number
-from viscometry.errors import InputError, ModelError, ViscometryError
+from viscometry.errors import InputError, ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import InputQuantity
-from viscometry.gum.propagation import propagate
-from viscometry.gum.validity import (
-    check_points,
-    check_propagation,
-    point_plausibility,
-    underflow,
-)
+from viscometry.gum.validity import check_points, point_plausibility, propagate_points
 
 __all__ = [
     "TARGET_TOLERANCE",
@@ -480,14 +474,8 @@ def _evaluate(
     else:  # sensitivities are those of the baseline (JCGM 100:2008, 5.1.3)
         y = np.full(n_sets, float(comp.value(*x0, *const)))
         grad = np.repeat(comp.gradient(*x0, *const)[:, None], n_sets, axis=1)
-    message, lost = underflow(budget, x, const, y, grad, label)
-    if message is not None:
-        raise ModelError(message)
-    prop = propagate(
-        grad, u, nu, budget.correlation_matrix,
-        coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
-    )  # fmt: skip
-    found += check_propagation(budget, prop, u, lost, label)
+    prop, lost = propagate_points(budget, x, u, nu, y, grad, label)
+    found += lost
     out_s = budget.output_scale
     found += point_plausibility(
         budget, x, u, (y - budget.output_offset) / out_s, prop.expanded_uncertainty / out_s,

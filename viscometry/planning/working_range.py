@@ -17,17 +17,12 @@ from typing import Any, Literal
 import numpy as np
 
 from viscometry._checks import finite as _number
-from viscometry.errors import InputError, ModelError
+from viscometry.errors import InputError
 from viscometry.gum.budget import Budget
 from viscometry.gum.linearised import frozen_array
-from viscometry.gum.propagation import SMALLEST_NORMAL, propagate
+from viscometry.gum.propagation import SMALLEST_NORMAL
 from viscometry.gum.result import OfBudget
-from viscometry.gum.validity import (
-    check_points,
-    check_propagation,
-    point_plausibility,
-    underflow,
-)
+from viscometry.gum.validity import check_points, point_plausibility, propagate_points
 
 __all__ = [
     "MAX_POINTS",
@@ -222,14 +217,8 @@ def working_range(
     if np.any(bad):
         first = int(np.argmax(bad))
         raise InputError(f"the model or a sensitivity is not finite {label(first)}")
-    message, lost = underflow(budget, x, const, y, grad, label)
-    if message is not None:
-        raise ModelError(message)
-    prop = propagate(
-        grad, u, nu, budget.correlation_matrix,
-        coverage_probability=budget.coverage_probability, coverage_factor=budget.coverage_factor,
-    )  # fmt: skip
-    notes += check_propagation(budget, prop, u, lost, label)
+    prop, lost = propagate_points(budget, x, u, nu, y, grad, label)
+    notes += lost
     out_s = budget.output_scale
     contributions = (prop.contributions / out_s).T
     dom = np.argmax(np.abs(prop.variance_shares.T), axis=1)
