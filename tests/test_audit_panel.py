@@ -55,7 +55,8 @@ def test_export_keeps_the_record_where_the_auditor_says(tmp_path: Path) -> None:
     assert sorted(p.name for p in written) == ["audit.csv", "audit.html"]
     html_text = (tmp_path / "kept" / "record" / "audit.html").read_text(encoding="utf-8")
     assert "audit PASSED" in html_text and "local codes" in html_text
-    assert (tmp_path / "kept" / "record" / "audit.csv").read_text().count("\n") == 21
+    # a header, 20 audited budget files and the 2 files the search skipped (listed, not audited)
+    assert (tmp_path / "kept" / "record" / "audit.csv").read_text().count("\n") == 23
     assert panel.export_html.value.count("download=") == 2
 
 
@@ -100,3 +101,15 @@ def test_the_examples_show_their_two_other_files_as_skipped(tmp_path: Path) -> N
     names = sorted(Path(s.path).name for s in panel.skipped)
     assert names == ["ashcombe_step_up_chain.toml", "pressure_capillary_upgrades.toml"]
     assert "; 2 skipped (listed in the table, not audited)" in panel.summary_html.value
+
+
+def test_the_exported_record_lists_the_skipped_files_too(tmp_path: Path) -> None:
+    # An auditor's record must show every file the search left out, not only the verdicts.
+    panel = audit_panel(EXAMPLES, export_folder=tmp_path / "record")
+    written = panel.export()
+    page = (tmp_path / "record" / "audit.html").read_text(encoding="utf-8")
+    csv = (tmp_path / "record" / "audit.csv").read_text(encoding="utf-8")
+    assert len(written) == 2
+    assert "; 2 skipped (listed in the table, not audited)" in page
+    assert "pressure_capillary_upgrades.toml" in page and "not audited" in page
+    assert csv.count(",skipped,") == 2

@@ -342,3 +342,12 @@ def test_correlated_budget_in_every_format():
     ).evaluate()
     for fmt in ("html", "md", "tex"):
         assert "r(a, b) = 0.5" in render_report(result, fmt)
+
+
+@pytest.mark.parametrize("fmt", ["md", "tex", "csv"])
+def test_a_title_with_a_newline_stays_one_line(fmt):
+    # A newline in a title must not start a Markdown heading or a CSV comment line of its own.
+    text = render_report(_hostile_result(title="Bath A\n# forged heading\r\x1b[2J"), fmt)
+    assert "\n# forged heading" not in text
+    assert "\x1b" not in text and "\r" not in text
+    assert any("Bath A" in line and "forged heading" in line for line in text.splitlines())

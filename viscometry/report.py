@@ -240,7 +240,9 @@ def _normalise_format(fmt: str) -> ReportFormat:
 
 
 def _title(result: BudgetResult) -> str:
-    return result.budget.title or f"Uncertainty budget of {symbol(result.measurand)}"
+    # One line in every format: a newline in a title would break a Markdown heading or a
+    # LaTeX paragraph, and control characters have no place in a report.
+    return one_line(result.budget.title) or f"Uncertainty budget of {symbol(result.measurand)}"
 
 
 _unit = format_unit
@@ -732,7 +734,11 @@ def _cannot_write(target: Path, exc: OSError) -> InputError:
 
 
 def write_audit_report(
-    verdicts: Any, folder: str | os.PathLike[str], *, relative_to: Any = None
+    verdicts: Any,
+    folder: str | os.PathLike[str],
+    *,
+    relative_to: Any = None,
+    skipped: Any = (),
 ) -> list[Path]:
     """Write an audit's record into ``folder`` (created if missing): ``audit.html`` (the table
     with each verdict in words and colour, the summary, the software version and the cautions)
@@ -746,6 +752,9 @@ def write_audit_report(
         Where the auditor keeps the record.
     relative_to : path-like, optional
         Show file names relative to this folder.
+    skipped : sequence of Skipped, optional
+        What the folder search left out (:attr:`viscometry.audit.AuditRun.skipped`): a row
+        each, with the reason, so the record shows every file it did not audit.
 
     Returns
     -------
@@ -765,7 +774,7 @@ def write_audit_report(
     from viscometry.io.atomic import atomic_write_text, check_output_path
     from viscometry.text import audit_summary, audit_table_html
 
-    table = audit_table(verdicts, relative_to=relative_to)
+    table = audit_table(verdicts, relative_to=relative_to, skipped=skipped)
     counts = table["verdict"].value_counts().to_dict()
     e = html.escape
     page = "\n".join([

@@ -738,18 +738,23 @@ VERDICT_WORDS = {
     "differs": ("differs from the record", "#a00"),
     "unrecorded": ("nothing recorded to compare with", "#a60"),
     "error": ("cannot be read or evaluated", "#a00"),
+    "skipped": ("not audited", "#555"),
 }
 
 
 def audit_summary(counts: dict[str, int]) -> str:
     """One line for a whole audit, e.g. ``'audit PASSED: 20 budget files, 20 recorded results
-    confirmed, 0 problems'`` (a file that differs or cannot be evaluated is a problem)."""
+    confirmed, 0 problems'`` (a file that differs or cannot be evaluated is a problem; files a
+    folder search skipped are counted apart and never make an audit pass or fail)."""
+    counts = dict(counts)
+    skipped = counts.pop("skipped", 0)
     problems = counts.get("differs", 0) + counts.get("error", 0)
     total = sum(counts.values())
+    note = f"; {skipped} skipped (listed in the table, not audited)" if skipped else ""
     return (
         f"audit {'PASSED' if problems == 0 else 'FAILED'}: {total} budget file(s), "
         f"{counts.get('match', 0)} recorded result(s) confirmed, "
-        f"{counts.get('unrecorded', 0)} unrecorded, {problems} problem(s)"
+        f"{counts.get('unrecorded', 0)} unrecorded, {problems} problem(s){note}"
     )
 
 

@@ -77,11 +77,9 @@ class AuditPanel:
         self._state.verdicts, self._state.skipped = verdicts, audit.skipped
         self._state.folder, self._state.message = folder, ""
         counts = audit.counts()
-        skipped = counts.pop("skipped")
         colour = "#060" if counts.get("differs", 0) + counts.get("error", 0) == 0 else "#a00"
-        note = f"; {skipped} skipped (listed in the table, not audited)" if skipped else ""
         self.summary_html.value = (
-            f"<b style='color:{colour}'>{html.escape(audit_summary(counts) + note)}</b>"
+            f"<b style='color:{colour}'>{html.escape(audit_summary(counts))}</b>"
         )
         self.table_html.value = audit_table_html(table)
         return verdicts
@@ -94,7 +92,8 @@ class AuditPanel:
         target = Path(self.export_folder.value.strip() or "audit_record")
         try:
             written = write_audit_report(
-                self._state.verdicts, target, relative_to=self._state.folder
+                self._state.verdicts, target, relative_to=self._state.folder,
+                skipped=self._state.skipped,
             )
         except ViscometryError as exc:
             self._refuse(self.export_html, str(exc))

@@ -284,12 +284,15 @@ class BudgetBuilder:
             self._refuse("export", "nothing to export: the budget cannot be built yet")
             return []
         folder = Path(self.export_folder.value.strip() or "reports")
+        saved = Path(self.save_path.value.strip() or "budget.toml")
         stem = Path(self.save_path.value.strip() or state.result.measurand).stem or "budget"
         written: list[Path] = []
         try:
             folder.mkdir(parents=True, exist_ok=True)
             for ext in _REPORT_EXTENSIONS:
-                written.append(write_report(state.result, folder / f"{stem}.{ext}"))
+                report = write_report(state.result, folder / f"{stem}.{ext}",
+                                      protect={saved: "the budget file"})  # fmt: skip
+                written.append(report)
         except (OSError, ViscometryError) as exc:
             self._refuse("export", f"cannot export to {folder}: {exc}")
             return written
