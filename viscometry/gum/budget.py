@@ -640,7 +640,7 @@ class Budget:
                 "higher-order terms (JCGM 100:2008 eq. 10) are defined for uncorrelated inputs; "
                 "remove the correlations or use the Monte Carlo method"
             )
-        h, t = self.compiled.higher_order(*x, *c)
+        h, t = self.compiled.higher_order(*x, *c, uncertainties=u)
         return higher_order_variance(u, grad, h, t)
 
     def _estimates(self, limit: int = 6) -> str:

@@ -12,8 +12,9 @@ the tree is walked node by node. Only these nodes are accepted:
 Everything else (attribute access, subscripts, other calls, keywords, lambdas,
 comprehensions, comparisons, strings, dunder names, unknown names) raises
 :class:`~viscometry.errors.FormulaError` naming the offending piece. Length, nesting depth,
-node count and the size of literal exponents are bounded, so a hostile formula cannot
-exhaust memory or time either. Nothing here calls ``eval``, ``exec``, ``sympify`` or
+node count, the size of literal exponents and the size of the expression that the
+reference-data functions expand into are bounded, so a hostile formula cannot exhaust
+memory or time either. Nothing here calls ``eval``, ``exec``, ``sympify`` or
 ``parse_expr``.
 """
 
@@ -35,6 +36,8 @@ __all__ = [
     "MAX_NODES",
     "MAX_EXPONENT",
     "MAX_NUMBER_BITS",
+    "MAX_EXPRESSION_NODES",
+    "expression_size",
 ]
 
 #: Longest formula accepted, in characters.
@@ -49,6 +52,13 @@ MAX_EXPONENT = 64
 #: beyond the range of a float anyway). Bounds the time and memory a formula such as
 #: ``((10**30)**8)**8`` could take.
 MAX_NUMBER_BITS = 1000
+#: Largest expression a formula may expand into, in sympy tree nodes (each operation, function,
+#: symbol and number is one node; a shared part counts as often as it appears). A call of a
+#: reference-data function such as ``water_viscosity(T)`` expands into about 1900 nodes and
+#: repeats its argument 174 times, so a model may call such functions about ten times, but
+#: not inside one another in ways that multiply the size (``water_viscosity(
+#: water_viscosity(T) * 3e5)`` has over 300 000 nodes, whose derivatives alone take minutes).
+MAX_EXPRESSION_NODES = 20_000
 
 BASE_FUNCTIONS: dict[str, Callable[..., sp.Expr]] = {
     "sqrt": sp.sqrt,
@@ -80,6 +90,38 @@ def _describe(node: ast.AST) -> str:
         return repr(ast.unparse(node)[:60])
     except Exception:  # pragma: no cover - unparse of a parsed tree does not fail in practice
         return type(node).__name__
+
+
+def expression_size(expr: sp.Basic, limit: int) -> int:
+    """Number of nodes of a sympy expression tree, counted up to ``limit + 1`` at most.
+
+    The count stops as soon as it passes ``limit``, so the cost is bounded by the limit and
+    not by the (possibly huge) size of the expression.
+
+    Parameters
+    ----------
+    expr : sympy.Basic
+        The expression; a subexpression shared by several parents counts once per parent.
+    limit : int
+        Stop counting after ``limit + 1`` nodes [1].
+
+    Returns
+    -------
+    int
+        The number of nodes, or ``limit + 1`` when there are more than ``limit``.
+
+    Examples
+    --------
+    >>> x = sp.Symbol("x")
+    >>> expression_size(2 * x + sp.sin(x), 100), expression_size(2 * x + sp.sin(x), 3)
+    (6, 4)
+    """
+    count = 0
+    for _node in sp.preorder_traversal(expr):
+        count += 1
+        if count > limit:
+            break
+    return count
 
 
 def _function_registry(extra: Mapping[str, Callable[..., sp.Expr]] | None) -> dict:
@@ -173,6 +215,11 @@ def parse_formula(
         raise FormulaError(f"{field} has {count} syntax nodes; the limit is {MAX_NODES}")
     builder = _Builder(allowed, funcs, field)
     expr = builder.build(tree.body, 0)
+    if expression_size(expr, MAX_EXPRESSION_NODES) > MAX_EXPRESSION_NODES:
+        raise FormulaError(
+            f"{field} expands into more than {MAX_EXPRESSION_NODES} terms (the limit); it calls "
+            f"reference-data functions too often"
+        )
     if not isinstance(expr, sp.Expr):  # pragma: no cover - defensive
         raise FormulaError(f"{field} does not describe a numeric expression")
     return expr
@@ -267,7 +314,16 @@ class _Builder:
         if isinstance(node.args[0], ast.Starred):
             raise self.fail(f"starred arguments in {_describe(node)} are not allowed")
         arg = self.build(node.args[0], depth)
-        return self.check_number(self.funcs[fname](arg), node)
+        value = self.funcs[fname](arg)
+        if fname not in BASE_FUNCTIONS:  # a closed form that repeats its argument
+            size = expression_size(value, MAX_EXPRESSION_NODES)
+            if size > MAX_EXPRESSION_NODES:
+                raise self.fail(
+                    f"{_describe(node)} expands into more than {MAX_EXPRESSION_NODES} terms "
+                    f"(the limit); call reference-data functions side by side, not inside one "
+                    f"another"
+                )
+        return self.check_number(value, node)
 
     def check_number(self, value: sp.Expr, node: ast.AST) -> sp.Expr:
         """Refuse parts that are undefined, infinite, imaginary or absurdly large numbers."""

@@ -4,6 +4,18 @@ A :class:`MeasurementModel` is the measurement function y = f(x₁, …, x_N) of
 JCGM 100:2008, 4.1. Its symbolic first (and, on demand, second) partial derivatives are
 derived once with sympy and lambdified to numpy once; both are cached per expression, so
 re-evaluating a budget with new numbers never re-derives anything.
+
+Symbolic work is bounded, so that a short formula cannot keep a command busy for minutes:
+
+* the first derivatives together may have at most :data:`MAX_DERIVATIVE_NODES` tree nodes,
+  else :class:`~viscometry.errors.ModelError` names their size and the limit;
+* the second and third derivatives of the higher-order terms are derived symbolically only
+  while they stay within :data:`SYMBOLIC_HIGHER_ORDER_NODES` nodes; beyond that they are
+  computed by finite differences of the exact (symbolic, lambdified) first derivatives
+  (:meth:`CompiledModel.higher_order`);
+* simplification for display is tried only on small expressions without nested
+  functions (:data:`SIMPLIFY_NODES`), where sympy's ``simplify`` is quick; larger ones
+  are shown as derived, with common factors pulled out.
 """
 
 from __future__ import annotations
@@ -17,10 +29,38 @@ import numpy as np
 import sympy as sp
 
 from viscometry.errors import ModelError
-from viscometry.gum.formula import parse_formula
+from viscometry.gum.formula import expression_size, parse_formula
 from viscometry.gum.inputs import check_name
 
-__all__ = ["MeasurementModel", "CompiledModel", "compile_model"]
+__all__ = [
+    "MeasurementModel",
+    "CompiledModel",
+    "compile_model",
+    "MAX_DERIVATIVE_NODES",
+    "SYMBOLIC_HIGHER_ORDER_NODES",
+    "SIMPLIFY_NODES",
+]
+
+#: Largest total size of a model's first partial derivatives, in sympy tree nodes (see
+#: :func:`~viscometry.gum.formula.expression_size`). Deriving and compiling that many takes a
+#: few seconds; a larger model is refused with a :class:`ModelError`. The built-in methods'
+#: derivatives have under 1000 nodes, one ``water_viscosity(T)`` about 17 000.
+MAX_DERIVATIVE_NODES = 1_000_000
+#: Largest total size of the symbolic second and third derivatives of the higher-order terms
+#: (JCGM 100:2008, eq. 10), in tree nodes; the built-in methods need under 20 000. A model
+#: whose first derivatives exceed a tenth of it, or whose higher derivatives grow past it,
+#: gets its higher-order terms by finite differences instead (:meth:`CompiledModel.higher_order`).
+SYMBOLIC_HIGHER_ORDER_NODES = 25_000
+#: Largest expression, in tree nodes, that sympy's ``simplify`` is tried on for display; it
+#: must also have no trigonometric or nested function and a small polynomial expansion
+#: (``simplify`` of nested ``sin``/``exp`` or of ``(a + b + c)**12`` can take minutes even
+#: for a short expression).
+SIMPLIFY_NODES = 150
+#: Largest expression, in tree nodes, whose common factors are pulled out for display.
+_FACTOR_NODES = 1_000
+#: Finite-difference step of the numerical higher-order terms, relative to min(u(xᵢ), |xᵢ|)
+#: (see :meth:`CompiledModel.higher_order`).
+_STEP = 2.0**-8
 
 
 def _formula_function_units() -> dict[str, tuple[str, str]]:
@@ -167,9 +207,10 @@ class MeasurementModel:
         return sp.latex(self.derivative(name))
 
     def relative_sensitivity_expression(self, name: str) -> sp.Expr:
-        """Symbolic ∂ln|f|/∂ln|x| = (x/f)·∂f/∂x, simplified (exponent of a power law)."""
+        """Symbolic ∂ln|f|/∂ln|x| = (x/f)·∂f/∂x, simplified when small (exponent of a power
+        law)."""
         x = self.symbol(name)
-        return sp.simplify(self.derivative(name) * x / self.expression)
+        return _simplify(self.derivative(name) * x / self.expression)
 
 
 class CompiledModel:
@@ -186,13 +227,12 @@ class CompiledModel:
         expr = model.expression
         # Unsimplified derivatives are lambdified (with common-subexpression elimination):
         # simplify() is slow on large models and only matters for display.
-        self.derivatives: tuple[sp.Expr, ...] = tuple(
-            sp.diff(expr, model.symbol(n)) for n in model.input_names
-        )
+        self.derivatives: tuple[sp.Expr, ...] = _first_derivatives(model)
         self._simplified: dict[int, sp.Expr] = {}
         self._value = sp.lambdify(syms, expr, modules="numpy", cse=True)
         self._gradient = sp.lambdify(syms, list(self.derivatives), modules="numpy", cse=True)
         self._hessian: Callable[..., list] | None = None
+        self._symbolic_higher_order: bool | None = None
 
     def simplified_derivative(self, index: int) -> sp.Expr:
         """∂f/∂xᵢ simplified for display (computed on first request, then cached)."""
@@ -220,8 +260,26 @@ class CompiledModel:
         shape = np.broadcast_shapes(*(np.shape(a) for a in args)) if args else ()
         return np.stack([np.broadcast_to(np.asarray(g, dtype=float), shape) for g in out])
 
-    def higher_order(self, *args: object) -> tuple[np.ndarray, np.ndarray]:
-        """Second and mixed third derivatives for JCGM 100:2008 eq. (10), derived on first use.
+    @property
+    def higher_order_method(self) -> str:
+        """``"symbolic"`` or ``"finite differences"``: how :meth:`higher_order` gets the
+        second and third derivatives of this model (decided on first use, then cached)."""
+        if self._symbolic_higher_order is None:
+            self._derive_higher_order()
+        return "symbolic" if self._symbolic_higher_order else "finite differences"
+
+    def higher_order(
+        self, *args: object, uncertainties: Sequence[float] | None = None
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Second and mixed third derivatives for JCGM 100:2008 eq. (10), at scalar values.
+
+        Parameters
+        ----------
+        *args : float
+            The input values followed by the constant values, in SI units.
+        uncertainties : sequence of float, optional
+            u(xᵢ) of the inputs [unit of each input]; sets the step of the finite
+            differences (below). Without it the step is relative to |xᵢ| alone.
 
         Returns
         -------
@@ -229,20 +287,98 @@ class CompiledModel:
             ∂²f/∂xᵢ∂xⱼ.
         third : (N, N) array
             ``third[i, j]`` = ∂³f/∂xᵢ∂xⱼ².
+
+        Raises
+        ------
+        ModelError
+            The derivatives cannot be evaluated at the given values.
+
+        Notes
+        -----
+        Small models (see :data:`SYMBOLIC_HIGHER_ORDER_NODES`) get exact symbolic
+        derivatives, derived on first use. Larger ones get them from central differences of
+        the exact first derivatives g = ∇f with a step hⱼ = 2⁻⁸·min(u(xⱼ), |xⱼ|) (u(xⱼ) when
+        xⱼ = 0; at least 2⁻²⁶|xⱼ|): ∂²f/∂xᵢ∂xⱼ ≈ (gᵢ(x + hⱼeⱼ) − gᵢ(x − hⱼeⱼ))/(2hⱼ) and
+        ∂³f/∂xᵢ∂xⱼ² ≈ (gᵢ(x + hⱼeⱼ) − 2gᵢ(x) + gᵢ(x − hⱼeⱼ))/hⱼ². Their truncation error
+        is of order hⱼ² times the next derivative, so in eq. (10) it is at most about
+        2⁻¹⁶ ≈ 1.5·10⁻⁵ times the fourth-order terms that eq. (10) already leaves out;
+        rounding adds about 4ε·2¹⁶ ≈ 6·10⁻¹¹ of (∂f/∂xᵢ u(xᵢ))² per input j. On the
+        example budgets the higher-order variance agrees with the symbolic one to within
+        3·10⁻¹⁰ of the first-order variance (regression check in the tests). Columns of
+        inputs with u(xⱼ) = 0 are 0 (they do not enter eq. 10).
         """
-        if self._hessian is None:
-            names = self.model.input_names
-            sym = [self.model.symbol(n) for n in names]
-            n = len(names)
-            second = [[sp.diff(self.derivatives[i], sym[j]) for j in range(n)] for i in range(n)]
-            third = [[sp.diff(second[j][j], sym[i]) for j in range(n)] for i in range(n)]
-            self._hessian = sp.lambdify(self._syms, [second, third], modules="numpy", cse=True)
+        if self._symbolic_higher_order is None:
+            self._derive_higher_order()
+        if not self._symbolic_higher_order:
+            return self._higher_order_numeric(args, uncertainties)
         with np.errstate(all="ignore"):
             try:
-                h, t = self._hessian(*args)
+                h, t = self._hessian(*args)  # type: ignore[misc]
             except (ArithmeticError, TypeError) as exc:
                 raise _not_evaluable(self.model, exc, "its second derivatives") from None
         return np.asarray(h, dtype=float), np.asarray(t, dtype=float)
+
+    def _derive_higher_order(self) -> None:
+        """Derive and lambdify the symbolic second and third derivatives, unless they grow
+        past :data:`SYMBOLIC_HIGHER_ORDER_NODES` (then finite differences are used)."""
+        sym = [self.model.symbol(n) for n in self.model.input_names]
+        n = len(sym)
+        budget = [SYMBOLIC_HIGHER_ORDER_NODES]
+
+        def within(expr: sp.Expr) -> bool:
+            budget[0] -= expression_size(expr, max(budget[0], 0))
+            return budget[0] >= 0
+
+        first = sum(expression_size(d, SYMBOLIC_HIGHER_ORDER_NODES) for d in self.derivatives)
+        second: list[list[sp.Expr]] = [[] for _ in range(n)]
+        third: list[list[sp.Expr]] = [[] for _ in range(n)]
+        ok = 10 * first <= SYMBOLIC_HIGHER_ORDER_NODES
+        for i in range(n * n if ok else 0):
+            second[i // n].append(sp.diff(self.derivatives[i // n], sym[i % n]))
+            if not within(second[i // n][-1]):
+                ok = False
+                break
+        for i in range(n * n if ok else 0):
+            third[i // n].append(sp.diff(second[i % n][i % n], sym[i // n]))
+            if not within(third[i // n][-1]):
+                ok = False
+                break
+        if ok:
+            self._hessian = sp.lambdify(self._syms, [second, third], modules="numpy", cse=True)
+        self._symbolic_higher_order = ok
+
+    def _higher_order_numeric(
+        self, args: Sequence[object], uncertainties: Sequence[float] | None
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Hessian and third derivatives by finite differences of the exact gradient."""
+        n = len(self.model.input_names)
+        x = np.array([float(a) for a in args[:n]], dtype=float)
+        u = np.abs(x) if uncertainties is None else np.abs(np.asarray(uncertainties, float))
+        scale = np.where(x == 0, u, np.minimum(u, np.abs(x)))
+        if uncertainties is None:
+            scale = np.where(scale == 0, 1.0, scale)
+        h = np.maximum(_STEP * scale, 2.0**-26 * np.abs(x))
+        cols = np.flatnonzero((h > 0) & (u > 0) if uncertainties is not None else h > 0)
+        points = np.repeat(x[:, None], 1 + 2 * cols.size, axis=1)
+        for k, j in enumerate(cols):
+            points[j, 1 + 2 * k] += h[j]
+            points[j, 2 + 2 * k] -= h[j]
+        g = self.gradient(*points, *(float(a) for a in args[n:]))
+        hessian = np.zeros((n, n))
+        third = np.zeros((n, n))
+        for k, j in enumerate(cols):
+            up, down = g[:, 1 + 2 * k], g[:, 2 + 2 * k]
+            # the steps as the floats actually took them (exact differences)
+            hu, hd = points[j, 1 + 2 * k] - x[j], x[j] - points[j, 2 + 2 * k]
+            hessian[:, j] = (up - down) / (hu + hd)
+            third[:, j] = 2.0 * ((up - g[:, 0]) / hu - (g[:, 0] - down) / hd) / (hu + hd)
+        if not (np.all(np.isfinite(hessian)) and np.all(np.isfinite(third))):
+            raise ModelError(
+                f"the second derivatives of the model {self.model.output_name} = "
+                f"{(self.model.formula or 'f(...)')[:80]} are not finite near the given values "
+                "(a singularity within 10⁻⁴ of an estimate?); leave out the higher-order terms"
+            )
+        return hessian, third
 
 
 def _not_evaluable(model: MeasurementModel, exc: BaseException, what: str = "it") -> ModelError:
@@ -253,11 +389,67 @@ def _not_evaluable(model: MeasurementModel, exc: BaseException, what: str = "it"
     )
 
 
+def _first_derivatives(model: MeasurementModel) -> tuple[sp.Expr, ...]:
+    """∂f/∂xᵢ for every input, refused once together they pass :data:`MAX_DERIVATIVE_NODES`."""
+    out: list[sp.Expr] = []
+    left = MAX_DERIVATIVE_NODES
+    for name in model.input_names:
+        out.append(sp.diff(model.expression, model.symbol(name)))
+        left -= expression_size(out[-1], max(left, 0))
+        if left < 0:
+            raise ModelError(
+                f"the derivatives of the model {model.output_name} = "
+                f"{(model.formula or 'f(...)')[:80]} have more than {MAX_DERIVATIVE_NODES} "
+                f"terms (the limit; reached at the derivative by {name}); write the model "
+                "with fewer nested or repeated functions",
+                where="measurand",
+            )
+    return tuple(out)
+
+
+def _quick_to_simplify(expr: sp.Basic, cap: int = 60) -> bool:
+    """Whether sympy's ``simplify`` is known to be quick on ``expr``: no trigonometric or
+    other function except one level of ``exp``/``log``, and a polynomial part whose
+    expansion stays small (``simplify`` expands and factors; ``(a + b + c)**12`` or a
+    product of twenty sums would take minutes)."""
+
+    def terms(e: sp.Basic, inside: bool) -> int:  # terms of the expansion, capped
+        if isinstance(e, sp.Function):
+            if inside or not isinstance(e, (sp.exp, sp.log)):
+                raise OverflowError
+            terms(e.args[0], True)
+            return 1
+        if isinstance(e, sp.Pow) and not e.exp.is_Integer:
+            terms(e.base, True)
+            terms(e.exp, True)
+            return 1
+        if isinstance(e, sp.Pow):
+            return min(terms(e.base, inside) ** min(abs(int(e.exp)), 64), cap + 1)
+        if isinstance(e, sp.Add):
+            return min(sum(terms(a, inside) for a in e.args), cap + 1)
+        if isinstance(e, sp.Mul):
+            out = 1
+            for a in e.args:
+                out = min(out * terms(a, inside), cap + 1)
+            return out
+        if e.args:  # anything else that is not a plain number or symbol
+            raise OverflowError
+        return 1
+
+    try:
+        return terms(expr, False) <= cap
+    except OverflowError:
+        return False
+
+
 def _simplify(expr: sp.Expr) -> sp.Expr:
-    # Full simplify can be slow on big expressions; bound its cost.
-    if sp.count_ops(expr) > 120:
+    """Simplified for display, at bounded cost (see :data:`SIMPLIFY_NODES`)."""
+    size = expression_size(expr, _FACTOR_NODES)
+    if size <= SIMPLIFY_NODES and sp.count_ops(expr) <= 120 and _quick_to_simplify(expr):
+        return sp.simplify(expr)
+    if size <= _FACTOR_NODES:
         return sp.factor_terms(expr)
-    return sp.simplify(expr)
+    return expr
 
 
 @functools.lru_cache(maxsize=256)
