@@ -181,8 +181,8 @@ def test_more_trials_than_the_panel_runs_are_refused_with_the_maximum(opened):
     good, chart = opened.simulation, opened.chart.value
     opened.trials.value = "1e8"
     expected = (
-        f"trials M = 100000000 is more than this panel runs ({MAX_TRIALS}: a run keeps every "
-        "model value in memory); use the command line for longer runs"
+        f"trials M = 100000000 is more than one run may have ({MAX_TRIALS}: a run keeps every "
+        "model value in memory); use fewer trials"
     )
     assert html.escape(expected) in opened.messages["trials"].value  # at once, before Run
     assert_refused(opened, "trials", expected, good, chart)

@@ -61,7 +61,20 @@ __all__ = [
     "run_monte_carlo",
     "run_adaptive",
     "validate_against",
+    "MAX_TRIALS",
+    "check_trials",
 ]
+
+#: Most Monte Carlo trials M of one run, fixed or adaptive [1]. A run keeps every model value
+#: in memory to find the coverage intervals (8 bytes each, 80 MB at the limit; an adaptive run
+#: briefly twice that), so the peak memory of a run at the limit stays near 0.3 GB. Larger M is
+#: refused with an :class:`~viscometry.errors.InputError` before anything is allocated, by the
+#: library, the command line and the widgets alike.
+MAX_TRIALS = 10**7
+#: Most histogram bins of a result [1].
+MAX_HISTOGRAM_BINS = 100_000
+#: Most significant digits n_dig of a numerical tolerance [1]: a float has about 17.
+_MAX_DIGITS = 17
 
 IntervalKind = Literal["symmetric", "shortest"]
 _INTERVAL_KINDS = ("symmetric", "shortest")
@@ -161,12 +174,63 @@ class ValidationResult:
 
 
 # ---------------------------------------------------------------------------- checks
-def _check_int(value: object, field: str, minimum: int = 1) -> int:
+def _shown(value: object) -> str:
+    """``repr`` of a value for a message, shortened (a 5000-digit integer has no repr)."""
+    if isinstance(value, (int, np.integer)) and not isinstance(value, bool):
+        bits = abs(int(value)).bit_length()
+        if bits > 100:
+            return f"{'-' if value < 0 else ''}an integer of about {int(bits * 0.30103)} digits"
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _check_int(value: object, field: str, minimum: int = 1, maximum: int | None = None) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
-        raise InputError(f"{field} must be an integer, got {value!r}")
+        raise InputError(f"{field} must be an integer, got {_shown(value)}")
     if value < minimum:
-        raise InputError(f"{field} must be at least {minimum}, got {value!r}")
+        raise InputError(f"{field} must be at least {minimum}, got {_shown(value)}")
+    if maximum is not None and value > maximum:
+        raise InputError(f"{field} must be at most {maximum}, got {_shown(value)}")
     return int(value)
+
+
+def check_trials(value: object, field: str = "trials") -> int:
+    """A number of Monte Carlo trials, 1 to :data:`MAX_TRIALS`, or an :class:`InputError`.
+
+    Parameters
+    ----------
+    value : int
+        The number of trials M [1].
+    field : str
+        What to call it in the message.
+
+    Returns
+    -------
+    int
+        ``value`` as a Python int.
+
+    Raises
+    ------
+    InputError
+        Not a whole number, below 1 or above :data:`MAX_TRIALS`; nothing is allocated.
+
+    Examples
+    --------
+    >>> check_trials(10**6)
+    1000000
+    >>> check_trials(10**10)  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.InputError: trials = 10000000000 is more than the limit of 10000000 ...
+    """
+    m = _check_int(value, field)
+    if m > MAX_TRIALS:
+        raise InputError(
+            f"{field} = {_shown(m)} is more than the limit of {MAX_TRIALS} trials of one Monte "
+            "Carlo run (it keeps every model value in memory, 8 bytes each); use fewer trials "
+            "or the adaptive procedure"
+        )
+    return m
 
 
 def _check_probability(value: object, field: str = "coverage_probability") -> float:
@@ -420,7 +484,7 @@ def draw_inputs(
     ((2, 5), True)
     """
     items = _check_inputs(inputs)
-    size = _check_int(size, "size")
+    size = check_trials(size, "size")
     r = _check_correlation(correlation, items)
     return _Sampler(items, r, rng).draw(size)
 
@@ -444,7 +508,8 @@ def numerical_tolerance(standard_uncertainty: float, significant_digits: int = 2
     Raises
     ------
     InputError
-        Negative or non-finite ``standard_uncertainty``, or ``significant_digits`` < 1.
+        Negative or non-finite ``standard_uncertainty``, or ``significant_digits`` < 1 or
+        > 17.
 
     Notes
     -----
@@ -471,7 +536,7 @@ def numerical_tolerance(standard_uncertainty: float, significant_digits: int = 2
         ) from None
     if not math.isfinite(u) or u < 0:
         raise InputError(f"standard_uncertainty must be finite and non-negative, got {u!r}")
-    n_dig = _check_int(significant_digits, "significant_digits")
+    n_dig = _check_int(significant_digits, "significant_digits", maximum=_MAX_DIGITS)
     if u == 0.0:
         return 0.0
     # Scientific formatting rounds u to n_dig significant digits and gives its exponent.
@@ -762,7 +827,8 @@ def run_monte_carlo(
     Raises
     ------
     InputError
-        ``trials``, ``chunk_size`` or ``histogram_bins`` < 1, p outside (0, 1), M too small
+        ``trials``, ``chunk_size`` or ``histogram_bins`` < 1, ``trials`` above
+        :data:`MAX_TRIALS`, p outside (0, 1), M too small
         for p, a correlation matrix of the wrong shape, both ``rng`` and ``seed``.
     CorrelationError
         An invalid correlation matrix.
@@ -789,9 +855,9 @@ def run_monte_carlo(
     (3.0, 0.14, 1)
     """
     items = _check_inputs(inputs)
-    m = _check_int(trials, "trials")
+    m = check_trials(trials, "trials")
     chunk = _check_int(chunk_size, "chunk_size")
-    bins = _check_int(histogram_bins, "histogram_bins")
+    bins = _check_int(histogram_bins, "histogram_bins", maximum=MAX_HISTOGRAM_BINS)
     p = _check_probability(coverage_probability)
     _coverage_indices(m, p)
     r = _check_correlation(correlation, items)
@@ -820,7 +886,7 @@ def run_adaptive(
     coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
     rng: np.random.Generator | None = None,
     seed: int | None = None,
-    max_trials: int = 10**7,
+    max_trials: int = MAX_TRIALS,
     interval: IntervalKind = "symmetric",
 ) -> MonteCarloResult:
     """Adaptive Monte Carlo procedure: add batches of trials until the results are stable.
@@ -833,7 +899,7 @@ def run_adaptive(
         n_dig, the number of significant digits of u(y) to be stable [1].
     max_trials : int
         Stop (not converged) rather than exceed this many trials [1]; must be at least one
-        batch.
+        batch and at most :data:`MAX_TRIALS` (the default).
     interval : {"symmetric", "shortest"}
         Coverage interval whose end-points are monitored and reported as ``interval``.
 
@@ -848,7 +914,8 @@ def run_adaptive(
     Raises
     ------
     InputError
-        Invalid arguments, including ``max_trials`` smaller than one batch.
+        Invalid arguments, including ``max_trials`` smaller than one batch or larger than
+        :data:`MAX_TRIALS`.
     CorrelationError
         An invalid correlation matrix.
     ModelError
@@ -876,10 +943,10 @@ def run_adaptive(
     (True, 2.0)
     """
     items = _check_inputs(inputs)
-    n_dig = _check_int(significant_digits, "significant_digits")
+    n_dig = _check_int(significant_digits, "significant_digits", maximum=_MAX_DIGITS)
     p = _check_probability(coverage_probability)
     kind = _check_kind(interval, "interval")
-    cap = _check_int(max_trials, "max_trials")
+    cap = check_trials(max_trials, "max_trials")
     batch = max(math.ceil(100.0 / (1.0 - p) - 1e-9), 10_000)
     if cap < batch:
         raise InputError(
@@ -904,7 +971,11 @@ def run_adaptive(
             if h >= 2
             else "at least two batches are needed to assess stability"
         )
-        note = f"not stabilised: max_trials = {cap} reached after h = {h} batches of M = {batch} trials; {still}"
+        limit = " (the limit of one run)" if cap == MAX_TRIALS else ""
+        note = (
+            f"not stabilised: max_trials = {cap}{limit} reached after h = {h} batches of "
+            f"M = {batch} trials; {still}"
+        )
     return _summarise(all_values, p, kind, 100, trials=h * batch, seed=seed,
                       converged=converged, batches=h, note=note)  # fmt: skip
 

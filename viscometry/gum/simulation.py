@@ -25,9 +25,11 @@ import numpy as np
 from viscometry.errors import CorrelationWarning, InputError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.montecarlo import (
+    MAX_TRIALS,
     IntervalKind,
     MonteCarloResult,
     ValidationResult,
+    check_trials,
     run_adaptive,
     run_monte_carlo,
     validate_against,
@@ -188,7 +190,7 @@ def simulate_budget(
     interval: IntervalKind = "symmetric",
     higher_order_reference: bool = False,
     progress: ProgressCallback | None = None,
-    max_trials: int = 10**7,
+    max_trials: int = MAX_TRIALS,
 ) -> BudgetSimulation:
     """Propagate a budget's input distributions by Monte Carlo and validate its first-order result.
 
@@ -198,8 +200,9 @@ def simulate_budget(
         The budget; its inputs, constants, validated correlation matrix and coverage
         probability are used as they are.
     trials : int, optional
-        Number M of trials of a fixed-M run [1]; default :data:`DEFAULT_TRIALS` (10⁶).
-        Not allowed with ``adaptive=True``.
+        Number M of trials of a fixed-M run [1]; default :data:`DEFAULT_TRIALS` (10⁶), at
+        most :data:`~viscometry.gum.montecarlo.MAX_TRIALS` (10⁷). Not allowed with
+        ``adaptive=True``.
     adaptive : bool
         Use the adaptive procedure of JCGM 101:2008, 7.9.4 instead of a fixed M.
     significant_digits : int
@@ -222,7 +225,9 @@ def simulate_budget(
         than :class:`ArithmeticError`, :class:`ValueError` or :class:`TypeError` (which are
         reported as a model failure) stops the run.
     max_trials : int
-        Upper bound on the trials of an adaptive run [1].
+        Upper bound on the trials of an adaptive run [1], at most (and by default)
+        :data:`~viscometry.gum.montecarlo.MAX_TRIALS`; a run that reaches it without
+        stabilising says so in ``mc.note`` and is not validated.
 
     Returns
     -------
@@ -233,7 +238,9 @@ def simulate_budget(
     ------
     InputError
         Invalid arguments (``trials`` together with ``adaptive``, too few trials for the
-        coverage probability, both ``seed`` and ``rng``, an unknown ``interval``).
+        coverage probability, ``trials`` or ``max_trials`` above
+        :data:`~viscometry.gum.montecarlo.MAX_TRIALS`, both ``seed`` and ``rng``, an
+        unknown ``interval``).
     ModelError
         The model gives non-finite values in some trials, or (``higher_order_reference``)
         the inputs are correlated.
@@ -278,6 +285,8 @@ def simulate_budget(
      'standard_uncertainty', 'trials', 'validation', 'value']
     """
     _check_arguments(budget, trials, adaptive, interval, progress)
+    if adaptive:
+        check_trials(max_trials, "max_trials")
     first_order = budget.evaluate(higher_order=bool(higher_order_reference))
     total = max_trials if adaptive else (DEFAULT_TRIALS if trials is None else trials)
     model = _measurand_model(budget, progress, total)
@@ -323,6 +332,8 @@ def _check_arguments(
         raise InputError(
             f"give trials or adaptive=True, not both; got trials = {trials!r} with adaptive=True"
         )
+    if trials is not None:
+        check_trials(trials, "trials")  # before anything is evaluated or allocated
     if progress is not None and not callable(progress):
         raise InputError(
             f"progress must be a callable(trials_done, trials_total), got {progress!r}"

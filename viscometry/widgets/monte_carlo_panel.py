@@ -31,7 +31,7 @@ import ipywidgets as widgets
 
 from viscometry.errors import InputError, ViscometryError
 from viscometry.gum.budget import Budget
-from viscometry.gum.montecarlo import IntervalKind
+from viscometry.gum.montecarlo import MAX_TRIALS, IntervalKind
 from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 from viscometry.mc_plots import monte_carlo_figure
 from viscometry.plots import figure_png
@@ -56,10 +56,10 @@ from viscometry.widgets.fields import (
 
 __all__ = ["MAX_TRIALS", "MonteCarloPanel", "monte_carlo_panel"]
 
-#: Most trials the panel runs [1]: a run keeps all M model values in memory to find the
-#: coverage interval (8 bytes each), and the kernel is busy until it ends. Larger M is
-#: refused with a message saying so (the command line ``viscometry simulate`` has no limit).
-MAX_TRIALS = 10**7
+# MAX_TRIALS (re-exported): the engine's limit on the trials of one run,
+# viscometry.gum.montecarlo.MAX_TRIALS, which the command line shares; a run keeps all M
+# model values in memory to find the coverage interval (8 bytes each), and the kernel is busy
+# until it ends. Larger M is refused with a message saying so.
 #: The fields that can refuse their text, by key of :attr:`MonteCarloPanel.messages`.
 _FIELDS = ("uncertainty", "trials", "seed")
 
@@ -401,8 +401,8 @@ def _field_refusal(panel: MonteCarloPanel, key: str) -> str | None:
             m = _count(panel.trials.value, "trials M")
             if m > MAX_TRIALS:
                 return (
-                    f"trials M = {m} is more than this panel runs ({MAX_TRIALS}: a run keeps "
-                    "every model value in memory); use the command line for longer runs"
+                    f"trials M = {m} is more than one run may have ({MAX_TRIALS}: a run keeps "
+                    "every model value in memory); use fewer trials"
                 )
         else:
             _count(panel.seed.value, "seed")
