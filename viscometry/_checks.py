@@ -9,6 +9,14 @@ from viscometry.errors import InputError
 __all__ = ["finite", "positive", "non_negative", "degrees_of_freedom"]
 
 
+def _shown(value: object) -> str:
+    """``repr`` of a value for a message, shortened (a 5000-digit integer has no repr)."""
+    if isinstance(value, int) and abs(value).bit_length() > 200:
+        return f"an integer of about {int(abs(value).bit_length() * math.log10(2)) + 1} digits"
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
 def finite(value: object, field: str) -> float:
     """``value`` as a finite float, else :class:`InputError` naming ``field`` and the value.
 
@@ -26,7 +34,9 @@ def finite(value: object, field: str) -> float:
     try:
         x = float(value)  # type: ignore[arg-type]
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be a number, got {value!r}") from None
+        raise InputError(f"{field} must be a number, got {_shown(value)}") from None
+    except OverflowError:  # an integer beyond the range of a float
+        raise InputError(f"{field} must be finite, got {_shown(value)}") from None
     if not math.isfinite(x):
         raise InputError(f"{field} must be finite, got {x!r}")
     return x
@@ -62,7 +72,11 @@ def degrees_of_freedom(value: object, field: str = "dof") -> float:
     try:
         x = float(value)  # type: ignore[arg-type]
     except (TypeError, ValueError):
-        raise InputError(f"{field} must be a positive number or 'inf', got {value!r}") from None
+        raise InputError(
+            f"{field} must be a positive number or 'inf', got {_shown(value)}"
+        ) from None
+    except OverflowError:  # an integer beyond the range of a float: as good as infinite
+        x = math.inf if value > 0 else -math.inf  # type: ignore[operator]
     if math.isnan(x) or x <= 0:
         raise InputError(f"{field} must be positive, got {x!r}")
     return x

@@ -18,6 +18,7 @@ HELP = "rank upgrade candidates (new U, reduction per cost, cheapest set for a t
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``viscometry plan``."""
+    from viscometry.commands.simulate import whole_number
     from viscometry.io import candidates
 
     parser.description = (
@@ -39,12 +40,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--top",
-        type=int,
+        type=whole_number,
         default=15,
         metavar="N",
         help="rows of the ranking to print (default 15; 0 = all)",
     )
-    parser.add_argument("--max-exhaustive", type=int, default=12, metavar="N",
+    parser.add_argument("--max-exhaustive", type=whole_number, default=12, metavar="N",
                         help="evaluate every combination up to N candidates, else a greedy "
                         "search by reduction per cost (default 12)")  # fmt: skip
     parser.add_argument(
@@ -61,14 +62,18 @@ def parse_target(text: str | None, value: float) -> float | None:
     s = text.strip()
     relative = s.endswith("%")
     s = s[:-1].strip() if relative else s
+    from viscometry.commands.simulate import shown_option
+
     try:
         x = float(s)
     except ValueError:
         raise InputError(
-            f"--target must be a number or a percentage like 0.3%, got {text[:40]!r}"
+            f"--target must be a number or a percentage like 0.3%, got {shown_option(text)}"
         ) from None
-    if not math.isfinite(x) or x <= 0:
-        raise InputError(f"--target must be positive, got {text[:40]!r}")
+    if not math.isfinite(x):
+        raise InputError(f"--target must be a finite number, got {shown_option(text)}")
+    if x <= 0:
+        raise InputError(f"--target must be positive, got {shown_option(text)}")
     if relative:
         if value == 0:
             raise InputError("--target as a percentage needs a non-zero measured value")

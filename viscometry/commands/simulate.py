@@ -12,8 +12,25 @@ HELP = (
 )
 
 
+def shown_option(text: str, limit: int = 40) -> str:
+    """``repr`` of an option's text for a message, cut to ``limit`` characters."""
+    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
+
+
+def whole_number(text: str) -> int:
+    """An option's whole number (``12``, ``-3``, ``1_000``); a message that echoes at most 40
+    characters of anything else (a 5000-digit number included)."""
+    try:
+        return int(text.strip().replace("_", ""))
+    except ValueError:
+        raise argparse.ArgumentTypeError(
+            f"must be a whole number, got {shown_option(text)}"
+        ) from None
+
+
 def _trials(text: str) -> int:
-    """Parse a number of trials written as ``1000000``, ``1_000_000`` or ``1e6``."""
+    """Parse a number of trials written as ``1000000``, ``1_000_000`` or ``1e6`` (the engine
+    refuses more than its limit, :data:`viscometry.gum.montecarlo.MAX_TRIALS`)."""
     cleaned = text.strip().replace("_", "")
     try:
         return int(cleaned)
@@ -22,9 +39,9 @@ def _trials(text: str) -> int:
     try:
         x = float(cleaned)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"trials must be a whole number, got {text!r}") from None
+        x = math.nan
     if not math.isfinite(x) or x != int(x):
-        raise argparse.ArgumentTypeError(f"trials must be a whole number, got {text!r}")
+        raise argparse.ArgumentTypeError(f"trials must be a whole number, got {shown_option(text)}")
     return int(x)
 
 
@@ -39,17 +56,17 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         type=_trials,
         default=None,
         metavar="N",
-        help="fixed number of Monte Carlo trials (default 1e6)",
+        help="fixed number of Monte Carlo trials (default 1e6, at most 1e7)",
     )
     how.add_argument(
         "--adaptive",
         action="store_true",
         help="add batches of trials until the results are stable to --digits significant "
-        "digits of u (JCGM 101:2008 7.9)",
+        "digits of u (JCGM 101:2008 7.9), at most 1e7 trials in all",
     )
     parser.add_argument(
         "--digits",
-        type=int,
+        type=whole_number,
         default=2,
         metavar="N",
         help="significant digits of u for the numerical tolerance δ of the validation and of "
@@ -57,7 +74,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--seed",
-        type=int,
+        type=whole_number,
         default=None,
         metavar="S",
         help="seed of the random number generator (same seed, same numbers)",

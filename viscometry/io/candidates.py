@@ -37,13 +37,15 @@ from viscometry._checks import finite as _number
 from viscometry.errors import BudgetFileError, InputError
 from viscometry.gum.budget import Budget
 from viscometry.gum.inputs import DISTRIBUTIONS, InputQuantity
-from viscometry.io.reader import parse_toml, read_text_file
+from viscometry.io.reader import parse_toml, read_text_file, show_names, show_value
 from viscometry.planning.upgrades import MAX_CANDIDATES, Change, UpgradeCandidate
 
 __all__ = ["MAX_CANDIDATES_BYTES", "candidates_from_mapping", "load_candidates"]
 
 #: Largest candidates file accepted, in bytes.
 MAX_CANDIDATES_BYTES = 1_000_000
+#: Largest cost accepted (a float must hold sums of costs).
+_LARGEST_COST = 1e300
 
 _SPEC_KEYS = {"standard_uncertainty", "expanded_uncertainty", "coverage_factor", "value",
               "unit", "dof", "distribution", "source"}  # fmt: skip
@@ -87,11 +89,11 @@ def candidates_from_mapping(
         raise BudgetFileError(f"{source}: expected a TOML document, got {type(data).__name__}")
     unknown = sorted(set(data) - {"currency", "candidate", "title"})
     if unknown:
-        raise fail("top level", f"unknown key(s) {', '.join(map(repr, unknown))} "
+        raise fail("top level", f"unknown key(s) {show_names(unknown)} "
                    "(allowed: title, currency, [[candidate]])")  # fmt: skip
     currency = data.get("currency", "")
     if not isinstance(currency, str):
-        raise fail("key 'currency'", f"must be a text label, got {currency!r}")
+        raise fail("key 'currency'", f"must be a text label, got {show_value(currency)}")
     items = data.get("candidate")
     if not isinstance(items, list) or not items:
         raise fail("[[candidate]]", "no candidates; add at least one [[candidate]] table")
@@ -104,27 +106,33 @@ def candidates_from_mapping(
 def _candidate(fail: Any, i: int, item: Any, budget: Budget) -> UpgradeCandidate:
     where = f"[[candidate]] #{i}"
     if not isinstance(item, Mapping):
-        raise fail(where, f"must be a table, got {item!r}")
+        raise fail(where, f"must be a table, got {show_value(item)}")
     if isinstance(item.get("name"), str):
-        where += f" ({item['name'][:60]!r})"
+        where += f" ({show_value(item['name'])})"
     bad = sorted(set(item) - {"name", "cost", "description", "changes"})
     if bad:
-        raise fail(where, f"unknown key(s) {', '.join(map(repr, bad))} "
+        raise fail(where, f"unknown key(s) {show_names(bad)} "
                    "(allowed: name, cost, description, changes)")  # fmt: skip
     for key in ("name", "cost", "changes"):
         if key not in item:
             raise fail(where, f"missing key {key!r}")
     cost = item["cost"]
     if isinstance(cost, bool) or not isinstance(cost, (int, float)) or not cost >= 0:
-        raise fail(f"{where}, key 'cost'", f"must be a number ≥ 0, got {cost!r}")
+        raise fail(f"{where}, key 'cost'", f"must be a number ≥ 0, got {show_value(cost)}")
+    if not cost <= _LARGEST_COST:
+        raise fail(f"{where}, key 'cost'", f"must be at most 1e300, got {show_value(cost)}")
     changes_in = item["changes"]
     if not isinstance(changes_in, Mapping) or not changes_in:
-        raise fail(f"{where}, key 'changes'", f"must be a non-empty table, got {changes_in!r}")
+        raise fail(
+            f"{where}, key 'changes'", f"must be a non-empty table, got {show_value(changes_in)}"
+        )
     changes: dict[str, Change] = {}
     for key, spec in changes_in.items():
-        kw = f"{where}, [changes] key {key!r}"
+        kw = f"{where}, [changes] key {show_value(key, 40)}"
         if key not in budget.input_names:
-            raise fail(kw, f"no such input in the budget (inputs: {', '.join(budget.input_names)})")
+            raise fail(
+                kw, f"no such input in the budget (inputs: {show_names(budget.input_names)})"
+            )
         try:
             changes[key] = _change(budget.input(key), spec)
         except InputError as exc:
@@ -138,15 +146,17 @@ def _candidate(fail: Any, i: int, item: Any, budget: Budget) -> UpgradeCandidate
 def _change(q: InputQuantity, spec: object) -> Change:
     """A number (new standard uncertainty) or a replacement input from a change table."""
     if isinstance(spec, bool):
-        raise InputError(f"must be a number or a table, got {spec!r}")
+        raise InputError(f"must be a number or a table, got {show_value(spec)}")
     if isinstance(spec, (int, float)):
         return _number(spec, "new standard uncertainty")
     if not isinstance(spec, Mapping):
-        raise InputError(f"must be a number (new standard uncertainty) or a table, got {spec!r}")
+        raise InputError(
+            f"must be a number (new standard uncertainty) or a table, got {show_value(spec)}"
+        )
     bad = sorted(set(spec) - _SPEC_KEYS)
     if bad:
         raise InputError(
-            f"unknown key(s) {', '.join(map(repr, bad))} (allowed: {', '.join(sorted(_SPEC_KEYS))})"
+            f"unknown key(s) {show_names(bad)} (allowed: {', '.join(sorted(_SPEC_KEYS))})"
         )
     if ("standard_uncertainty" in spec) == ("expanded_uncertainty" in spec):
         raise InputError("give exactly one of standard_uncertainty or expanded_uncertainty")
@@ -171,7 +181,7 @@ def _replacement(q: InputQuantity, u: float, spec: Mapping[str, Any]) -> InputQu
         extra["value"] = _number(spec["value"], "value")
     if "unit" in spec:
         if not isinstance(spec["unit"], str):
-            raise InputError(f"unit must be a string, got {spec['unit']!r}")
+            raise InputError(f"unit must be a string, got {show_value(spec['unit'])}")
         extra["unit"] = spec["unit"]
     if "dof" in spec:
         d = spec["dof"]
@@ -179,7 +189,8 @@ def _replacement(q: InputQuantity, u: float, spec: Mapping[str, Any]) -> InputQu
     if "distribution" in spec:
         if spec["distribution"] not in DISTRIBUTIONS:
             raise InputError(
-                f"distribution must be one of {', '.join(DISTRIBUTIONS)}, got {spec['distribution']!r}"
+                f"distribution must be one of {', '.join(DISTRIBUTIONS)}, "
+                f"got {show_value(spec['distribution'])}"
             )
         extra["distribution"] = spec["distribution"]
     if "source" in spec:

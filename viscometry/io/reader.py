@@ -16,6 +16,7 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import os
+import re
 import tomllib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
@@ -153,7 +154,7 @@ def is_budget_file(path: str | os.PathLike[str]) -> bool:
     """
     try:
         doc = tomllib.loads(read_text_file(path, "a budget file"))
-    except (BudgetFileError, tomllib.TOMLDecodeError, RecursionError):
+    except (BudgetFileError, tomllib.TOMLDecodeError, RecursionError, ValueError):
         return True
     fmt = doc.get("format")
     if isinstance(fmt, str):
@@ -204,6 +205,34 @@ def parse_toml(text: str, src: str) -> dict[str, Any]:
         raise BudgetFileError(f"{src}: not valid TOML: {exc}") from None
     except RecursionError:
         raise BudgetFileError(f"{src}: not valid TOML: nested too deeply") from None
+    except ValueError:  # an integer of more digits than Python converts (4300)
+        raise BudgetFileError(f"{src}: {_huge_integer(text)}") from None
+
+
+#: An integer of 4300 digits or more (TOML allows single underscores between digits): the
+#: most Python converts from text.
+_LONG_INTEGER = re.compile(r"(?<![0-9_.])[0-9](?:_?[0-9]){4299,}(?![0-9_.eE])")
+#: A table header line, ``[inputs.r]`` or ``[[candidate]]``.
+_TABLE_HEADER = re.compile(r"^[ \t]*(\[\[?[^\]\n]*\]\]?)", re.MULTILINE)
+
+
+def _huge_integer(text: str) -> str:
+    """Where a TOML text has an integer too long to read: line, key, table and size."""
+    found = _LONG_INTEGER.search(text)
+    if found is None:  # pragma: no cover - tomllib raises ValueError only for long integers
+        return "not valid TOML: a number is too long to read"
+    before = text[: found.start()]
+    line = before.count("\n") + 1
+    assignment = before[before.rfind("\n") + 1 :]
+    key = assignment.split("=")[0].strip() if "=" in assignment else ""
+    tables = _TABLE_HEADER.findall(before)
+    at = f", key {_show(key)}" if key else ""
+    at += f" in {_show(tables[-1])[1:-1]}" if tables else ""
+    digits = sum(c.isdigit() for c in found.group())
+    return (
+        f"line {line}{at}: a number with {digits} digits is too long to read (no float holds "
+        "more than 309 digits; write it with an exponent, e.g. 1.5e3)"
+    )
 
 
 def read_document(doc: Mapping[str, Any], src: str) -> BudgetFile:
@@ -277,6 +306,14 @@ def _settings(r: _Reader, doc: Mapping[str, Any], m: Mapping[str, Any]) -> dict[
     }
 
 
+def _cut(location: str, limit: int = 80) -> str:
+    """A location such as ``[inputs.<name>]`` shortened in the middle when a name is long
+    (the error's ``where`` keeps the whole name)."""
+    if len(location) <= limit:
+        return location
+    return location[: limit - 16] + "…" + location[-15:]
+
+
 def _where_of(location: str) -> str:
     """The ``where`` of a file location: ``"[inputs.r]"`` → ``"inputs.r"``,
     ``"[checks] g_local"`` → ``"checks.g_local"``, ``"correlations[0].between"`` →
@@ -312,7 +349,7 @@ def _wrap(src: str, build: Callable[[], Any]) -> Any:
         where = getattr(exc, "where", None)
         if where:
             text = str(exc).removeprefix(f"{where}: ")
-            raise BudgetFileError(f"{src}: {_location(where)} {text}", where=where) from exc
+            raise BudgetFileError(f"{src}: {_cut(_location(where))} {text}", where=where) from exc
         raise BudgetFileError(f"{src}: {exc}", where="measurand") from exc
 
 
@@ -324,7 +361,7 @@ class _Reader:
         self.src = src
 
     def fail(self, where: str, message: str) -> BudgetFileError:
-        return BudgetFileError(f"{self.src}: {where} {message}", where=_where_of(where))
+        return BudgetFileError(f"{self.src}: {_cut(where)} {message}", where=_where_of(where))
 
     def keys(self, table: Mapping[str, Any], allowed: Sequence[str], where: str) -> None:
         for key in table:
@@ -404,9 +441,45 @@ class _Reader:
         return u
 
 
-def _show(v: Any) -> str:
-    text = repr(v)
-    return text if len(text) <= 60 else text[:57] + "..."
+def show_value(v: Any, limit: int = 60) -> str:
+    """``repr`` of a value from a file for an error message, at most ``limit`` characters.
+
+    Examples
+    --------
+    >>> show_value("k" * 900_000)[-8:], show_value(10**400)
+    ('kkkkk...', 'an integer of about 401 digits')
+    """
+    if isinstance(v, int) and not isinstance(v, bool) and abs(v).bit_length() > 200:
+        return f"an integer of about {int(abs(v).bit_length() * math.log10(2)) + 1} digits"
+    if isinstance(v, str) and len(v) > limit:
+        v = v[:limit]  # (repr of the cut text: a 900 000-character string is not copied twice)
+    text = repr(v) if not isinstance(v, (list, dict)) else _brief(v, limit)
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+def show_names(names: Any, most: int = 8) -> str:
+    """Names (keys, inputs) for a message: each shortened, at most ``most`` of them.
+
+    Examples
+    --------
+    >>> show_names(["a", "b"]), show_names([f"x{i}" for i in range(20)], 3)
+    ("'a', 'b'", "'x0', 'x1', 'x2' and 17 more")
+    """
+    names = list(names)
+    text = ", ".join(show_value(n, 40) for n in names[:most])
+    return text + (f" and {len(names) - most} more" if len(names) > most else "")
+
+
+def _brief(v: list | dict, limit: int) -> str:
+    """The start of the repr of a list or table, without writing out all of a big one."""
+    items = list(v.items())[:8] if isinstance(v, dict) else v[:8]
+    text = repr(dict(items) if isinstance(v, dict) else items)
+    if len(v) > 8:
+        text = text[:-1] + ", ...]" if isinstance(v, list) else text[:-1] + ", ...}"
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+_show = show_value
 
 
 # --------------------------------------------------------------------------- parts
@@ -491,7 +564,7 @@ def read_quantity(
     except BudgetFileError:
         raise
     except ViscometryError as exc:
-        raise BudgetFileError(f"{r.src}: {location} {exc}", where=part) from exc
+        raise BudgetFileError(f"{r.src}: {_cut(location)} {exc}", where=part) from exc
 
 
 def _dof_keys(r: _Reader, where: str, spec: Mapping[str, Any]) -> dict[str, Any]:
@@ -597,7 +670,7 @@ def _correlations(r: _Reader, doc: Mapping[str, Any], names: set[str]) -> tuple[
             if n not in names:
                 raise r.fail(
                     f"{where}.between",
-                    f"names unknown input {_show(n)} (inputs: {', '.join(sorted(names))})",
+                    f"names unknown input {_show(n)} (inputs: {show_names(sorted(names))})",
                 )
         coefficient = r.number(c, "coefficient", where)
         try:
@@ -665,7 +738,7 @@ def _recorded(r: _Reader, doc: Mapping[str, Any], unit: str) -> Recorded | None:
     if rec_unit is not None and _units.parse_unit(rec_unit) != _units.parse_unit(unit):
         raise r.fail(
             where,
-            f"unit {rec_unit!r} differs from the measurand unit {unit!r}; record the result in "
+            f"unit {_show(rec_unit)} differs from the measurand unit {_show(unit)}; record the result in "
             "the measurand's unit",
         )
     propagation = r.text(t, "propagation", where, default=None)
