@@ -64,8 +64,19 @@ def _long_formula(path: Path) -> None:
     path.write_text(VALID.replace("MODEL", "a+" * 50_000 + "b"), encoding="utf-8")
 
 
+def _long_key(path: Path) -> None:
+    # An input named by 900 000 characters: refused, and echoed cut, not whole.
+    text = VALID.replace("MODEL", "a + b").replace("[inputs.b]", "[inputs." + "k" * 900_000 + "]")
+    path.write_text(text, encoding="utf-8")
+
+
 GENERATED = {
     "generated_huge_file": (_huge_file, "BudgetFileError", ["file is", "at most 1000000 bytes"]),
+    "generated_900000_character_key": (
+        _long_key,
+        "BudgetFileError",
+        ["[inputs.kkkkkkkkkk", "kkk…kkkk", "input name is longer than 64 characters"],
+    ),
     "generated_long_formula": (
         _long_formula,
         "BudgetFileError",
