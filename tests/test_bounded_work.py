@@ -147,8 +147,8 @@ def test_finite_differences_agree_with_the_symbolic_terms_on_h1(monkeypatch):
 
 def test_finite_differences_refuse_a_singularity_next_to_the_estimate(monkeypatch):
     monkeypatch.setattr(model_module, "SYMBOLIC_HIGHER_ORDER_NODES", 0)
-    compiled = CompiledModel(MeasurementModel.from_formula("sqrt(a)", ["a"]))
-    with pytest.raises(ModelError, match="second derivatives of the model .* are not finite"):
+    compiled = CompiledModel(MeasurementModel.from_formula("sqrt(a)", ["a"], output_name="y"))
+    with pytest.raises(ModelError, match="second derivatives of the model of y are not finite"):
         compiled.higher_order(0.0, uncertainties=[1.0])
 
 
@@ -157,7 +157,7 @@ def test_first_derivatives_over_the_limit_are_refused(monkeypatch):
     model = MeasurementModel.from_formula(_nested(6, "a*b"), ["a", "b"], output_name="y")
     with pytest.raises(ModelError) as info:
         CompiledModel(model)
-    assert "derivatives of the model y = " in str(info.value)
+    assert "derivatives of the model of y have" in str(info.value)
     assert "have more than 50 terms (the limit" in str(info.value)
 
 

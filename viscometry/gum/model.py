@@ -42,19 +42,19 @@ __all__ = [
 ]
 
 #: Largest total size of a model's first partial derivatives, in sympy tree nodes (see
-#: :func:`~viscometry.gum.formula.expression_size`). Deriving and compiling that many takes a
-#: few seconds; a larger model is refused with a :class:`ModelError`. The built-in methods'
-#: derivatives have under 1000 nodes, one ``water_viscosity(T)`` about 17 000.
-MAX_DERIVATIVE_NODES = 1_000_000
+#: :func:`~viscometry.gum.formula.expression_size`). Deriving and compiling that many takes
+#: a few seconds; a larger model is refused with a :class:`ModelError`, also in a few
+#: seconds. The built-in methods' derivatives have under 1000 nodes, one
+#: ``water_viscosity(T)`` about 17 000, a product of six such calls about 270 000.
+MAX_DERIVATIVE_NODES = 300_000
 #: Largest total size of the symbolic second and third derivatives of the higher-order terms
 #: (JCGM 100:2008, eq. 10), in tree nodes; the built-in methods need under 20 000. A model
 #: whose first derivatives exceed a tenth of it, or whose higher derivatives grow past it,
 #: gets its higher-order terms by finite differences instead (:meth:`CompiledModel.higher_order`).
 SYMBOLIC_HIGHER_ORDER_NODES = 25_000
 #: Largest expression, in tree nodes, that sympy's ``simplify`` is tried on for display; it
-#: must also have no trigonometric or nested function and a small polynomial expansion
-#: (``simplify`` of nested ``sin``/``exp`` or of ``(a + b + c)**12`` can take minutes even
-#: for a short expression).
+#: must also be a rational function of low degree without functions (``simplify`` of nested
+#: ``sin``/``exp`` or of ``(a + b + c)**12`` can take minutes even for a short expression).
 SIMPLIFY_NODES = 150
 #: Largest expression, in tree nodes, whose common factors are pulled out for display.
 _FACTOR_NODES = 1_000
@@ -374,9 +374,9 @@ class CompiledModel:
             third[:, j] = 2.0 * ((up - g[:, 0]) / hu - (g[:, 0] - down) / hd) / (hu + hd)
         if not (np.all(np.isfinite(hessian)) and np.all(np.isfinite(third))):
             raise ModelError(
-                f"the second derivatives of the model {self.model.output_name} = "
-                f"{(self.model.formula or 'f(...)')[:80]} are not finite near the given values "
-                "(a singularity within 10⁻⁴ of an estimate?); leave out the higher-order terms"
+                f"the second derivatives of the model of {self.model.output_name} are not "
+                "finite near the input estimates (a singularity within 0.4 % of an estimate or "
+                "of its uncertainty?); leave out the higher-order terms"
             )
         return hessian, third
 
@@ -398,48 +398,45 @@ def _first_derivatives(model: MeasurementModel) -> tuple[sp.Expr, ...]:
         left -= expression_size(out[-1], max(left, 0))
         if left < 0:
             raise ModelError(
-                f"the derivatives of the model {model.output_name} = "
-                f"{(model.formula or 'f(...)')[:80]} have more than {MAX_DERIVATIVE_NODES} "
-                f"terms (the limit; reached at the derivative by {name}); write the model "
-                "with fewer nested or repeated functions",
+                f"the derivatives of the model of {model.output_name} have more than "
+                f"{MAX_DERIVATIVE_NODES} terms (the limit; reached at the derivative by "
+                f"{name}); write the model with fewer nested or repeated functions",
                 where="measurand",
             )
     return tuple(out)
 
 
-def _quick_to_simplify(expr: sp.Basic, cap: int = 60) -> bool:
-    """Whether sympy's ``simplify`` is known to be quick on ``expr``: no trigonometric or
-    other function except one level of ``exp``/``log``, and a polynomial part whose
-    expansion stays small (``simplify`` expands and factors; ``(a + b + c)**12`` or a
-    product of twenty sums would take minutes)."""
+def _quick_to_simplify(expr: sp.Basic, cap: int = 60, degree: int = 12) -> bool:
+    """Whether sympy's ``simplify`` is known to be quick on ``expr``: a rational function of
+    the symbols (roots of single symbols allowed, no other function) whose expansion has at
+    most ``cap`` terms of degree at most ``degree``. ``simplify`` expands, factors and tries
+    trigonometric and radical rewritings; on nested functions, roots of sums or
+    ``(a + b + c)**12`` that takes minutes even for a short expression."""
 
-    def terms(e: sp.Basic, inside: bool) -> int:  # terms of the expansion, capped
-        if isinstance(e, sp.Function):
-            if inside or not isinstance(e, (sp.exp, sp.log)):
-                raise OverflowError
-            terms(e.args[0], True)
-            return 1
-        if isinstance(e, sp.Pow) and not e.exp.is_Integer:
-            terms(e.base, True)
-            terms(e.exp, True)
-            return 1
-        if isinstance(e, sp.Pow):
-            return min(terms(e.base, inside) ** min(abs(int(e.exp)), 64), cap + 1)
-        if isinstance(e, sp.Add):
-            return min(sum(terms(a, inside) for a in e.args), cap + 1)
-        if isinstance(e, sp.Mul):
-            out = 1
-            for a in e.args:
-                out = min(out * terms(a, inside), cap + 1)
-            return out
-        if e.args:  # anything else that is not a plain number or symbol
-            raise OverflowError
-        return 1
+    def size(e: sp.Basic) -> tuple[int, int]:  # (terms, degree) of the expansion, capped
+        if e.is_Symbol or e.is_Number or e is sp.pi or e is sp.E:
+            return 1, int(e.is_Symbol)
+        if isinstance(e, sp.Pow) and e.exp.is_Integer:
+            n = min(abs(int(e.exp)), degree + 1)
+            terms, deg = size(e.base)
+            return min(terms**n, cap + 1), deg * n
+        if isinstance(e, sp.Pow) and e.base.is_Symbol and e.exp.is_Rational:
+            return 1, 1
+        if isinstance(e, (sp.Add, sp.Mul)):
+            parts = [size(a) for a in e.args]
+            if isinstance(e, sp.Add):
+                return min(sum(t for t, _ in parts), cap + 1), max(d for _, d in parts)
+            terms = 1
+            for t, _ in parts:
+                terms = min(terms * t, cap + 1)
+            return terms, sum(d for _, d in parts)
+        raise OverflowError  # a function, a root of a sum, anything else
 
     try:
-        return terms(expr, False) <= cap
+        terms, deg = size(expr)
     except OverflowError:
         return False
+    return terms <= cap and deg <= degree
 
 
 def _simplify(expr: sp.Expr) -> sp.Expr:
