@@ -188,3 +188,12 @@ def test_a_900000_character_key_is_echoed_cut(tmp_path, capsys):
     assert main(["evaluate", str(path)]) == 2
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and len(err) < 300 and "[inputs.kkk" in err
+
+
+def test_rounding_keeps_every_digit_of_an_extreme_ratio():
+    # U 303 orders of magnitude below the value, as a coverage factor of 1e-300 gives (it
+    # ended in decimal.InvalidOperation); exact decimal arithmetic (no external source).
+    from viscometry.gum.rounding import round_result
+
+    r = round_result(1.0016, 4.5e-303)
+    assert r.decimals == 304 and r.uncertainty.endswith("45") and r.value.startswith("1.0016")

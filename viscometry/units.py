@@ -38,6 +38,8 @@ ureg.formatter.default_format = "~P"
 
 _UNIT_TEXT = re.compile(r"^[A-Za-z0-9_ *./^()\-+µμ°%·²³]*$")
 _MAX_UNIT_LENGTH = 80
+#: A number raised to a power (``10**3``, ``9**9**9``), which a unit never needs.
+_NUMBER_POWER = re.compile(r"[0-9.]\s*(\*\*|\^)")
 
 
 @functools.lru_cache(maxsize=512)
@@ -66,6 +68,8 @@ def parse_unit(text: str, field: str = "unit") -> pint.Unit:
         t = ""
     if len(t) > _MAX_UNIT_LENGTH or not _UNIT_TEXT.match(t):
         raise UnitError(f"{field}: {text[:40]!r} is not a unit expression")
+    if _NUMBER_POWER.search(t):  # ``9**9**9`` would be computed exactly, for minutes
+        raise UnitError(f"{field}: {text[:40]!r} raises a number to a power; write the unit")
     t = (
         t.replace("·", "*")
         .replace("²", "^2")

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from decimal import ROUND_CEILING, ROUND_HALF_EVEN, Decimal
+from decimal import ROUND_CEILING, ROUND_HALF_EVEN, Decimal, localcontext
 from typing import Literal
 
 from viscometry.errors import InputError
@@ -71,7 +71,9 @@ def significant_decimal_places(uncertainty: float, digits: int = 2) -> int:
 
 def _quantize(x: Decimal, decimals: int, mode: str) -> Decimal:
     q = Decimal(1).scaleb(-decimals)
-    return x.quantize(q, rounding=mode)
+    with localcontext() as context:  # every digit down to 10^-decimals (a float has < 800)
+        context.prec = max(context.prec, x.adjusted() + decimals + 2)
+        return x.quantize(q, rounding=mode)
 
 
 def round_result(
