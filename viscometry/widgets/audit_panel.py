@@ -92,7 +92,9 @@ class AuditPanel:
         target = Path(self.export_folder.value.strip() or "audit_record")
         try:
             written = write_audit_report(
-                self._state.verdicts, target, relative_to=self._state.folder,
+                self._state.verdicts,
+                target,
+                relative_to=self._state.folder,
                 skipped=self._state.skipped,
             )
         except ViscometryError as exc:
