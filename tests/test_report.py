@@ -351,3 +351,14 @@ def test_a_title_with_a_newline_stays_one_line(fmt):
     assert "\n# forged heading" not in text
     assert "\x1b" not in text and "\r" not in text
     assert any("Bath A" in line and "forged heading" in line for line in text.splitlines())
+
+
+def test_a_derivative_too_big_to_typeset_is_named_not_printed():
+    # The derivative of the IAPWS water-viscosity formula has ~10⁴ nodes: typesetting it as
+    # LaTeX and MathML took longer than deriving it and nobody can read it.
+    t = InputQuantity.normal("T", 20.0, 0.01, "degC")
+    result = Budget.from_formula("eta", "water_viscosity(T)", [t], "mPa*s").evaluate()
+    for fmt in ("md", "html"):  # the .tex fragment holds the table only
+        text = render_report(result, fmt)
+        assert "not typeset" in text
+    assert "\\frac" in render_report(_hostile_result(), "md")  # small ones still are

@@ -292,19 +292,39 @@ def _version() -> str:
     return __version__
 
 
+#: Expressions of more nodes than this are not typeset in reports (printing a derivative of
+#: 10⁵ nodes as LaTeX and MathML takes longer than deriving it); the report says so instead.
+MAX_PRINTED_NODES = 2000
+
+
+def _too_big(expr: Any) -> str | None:
+    """A note in place of an expression too big to typeset, or None."""
+    from viscometry.gum.formula import expression_size
+
+    if expression_size(expr, MAX_PRINTED_NODES) > MAX_PRINTED_NODES:
+        return f"(an expression of more than {MAX_PRINTED_NODES} terms; not typeset)"
+    return None
+
+
+def _latex_of(expr: Any) -> str:
+    import sympy as sp
+
+    note = _too_big(expr)
+    return rf"\text{{{note}}}" if note else sp.latex(expr)
+
+
 def _model_latex(result: BudgetResult) -> tuple[str, list[tuple[str, str]]]:
     """LaTeX of ``y = f(x)`` and of each ``∂f/∂x_i = ...`` (sympy's printer)."""
     import sympy as sp
 
     model = result.budget.model
     y = sp.latex(sp.Symbol(model.output_name))
-    equation = f"{y} = {sp.latex(model.expression)}"
+    equation = f"{y} = {_latex_of(model.expression)}"
     sens = []
     for name in model.input_names:
         x = sp.latex(model.symbol(name))
-        sens.append(
-            (name, rf"\frac{{\partial {y}}}{{\partial {x}}} = {sp.latex(model.derivative(name))}")
-        )
+        d = _latex_of(model.derivative(name))
+        sens.append((name, rf"\frac{{\partial {y}}}{{\partial {x}}} = {d}"))
     return equation, sens
 
 
@@ -319,12 +339,18 @@ def _model_mathml(result: BudgetResult) -> tuple[str, list[str]]:
     def wrap(inner: str) -> str:
         return f'<math xmlns="http://www.w3.org/1998/Math/MathML" display="block">{inner}</math>'
 
-    equation = wrap(f"<mrow>{y}<mo>=</mo>{mathml(model.expression, printer='presentation')}</mrow>")
+    def of(expr: Any) -> str:
+        note = _too_big(expr)
+        return (
+            f"<mtext>{html.escape(note)}</mtext>" if note else mathml(expr, printer="presentation")
+        )
+
+    equation = wrap(f"<mrow>{y}<mo>=</mo>{of(model.expression)}</mrow>")
     sens = []
     for name in model.input_names:
         x = mathml(model.symbol(name), printer="presentation")
         frac = f"<mfrac><mrow><mo>&#8706;</mo>{y}</mrow><mrow><mo>&#8706;</mo>{x}</mrow></mfrac>"
-        d = mathml(model.derivative(name), printer="presentation")
+        d = of(model.derivative(name))
         sens.append(wrap(f"<mrow>{frac}<mo>=</mo>{d}</mrow>"))
     return equation, sens
 
