@@ -498,3 +498,22 @@ def test_plots_return_figures() -> None:
     fig3 = plot_upgrades(plan)
     labels = [t.get_text() for t in fig3.axes[0].get_yticklabels()]
     assert "B: x1, x2 exact + D: x3 to 6" in labels and len(labels) == 4
+
+
+def test_exhaustive_search_is_bounded():
+    # 2**17 sets and more are refused before any set is built (time and memory double with
+    # each candidate); this package's own limit, no external source.
+    from viscometry.errors import InputError
+    from viscometry.planning import MAX_EXHAUSTIVE, evaluate_upgrades
+
+    budget = Budget.from_formula(
+        "y", "a + b", [InputQuantity.normal("a", 1.0, 0.3), InputQuantity.normal("b", 2.0, 0.4)]
+    )
+    with pytest.raises(
+        InputError, match=f"max_exhaustive must be at most {MAX_EXHAUSTIVE}.*got 17"
+    ):
+        evaluate_upgrades(
+            budget,
+            [UpgradeCandidate("a better", 1.0, {"a": 0.1})],
+            max_exhaustive=MAX_EXHAUSTIVE + 1,
+        )

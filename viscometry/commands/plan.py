@@ -47,7 +47,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument("--max-exhaustive", type=whole_number, default=12, metavar="N",
                         help="evaluate every combination up to N candidates, else a greedy "
-                        "search by reduction per cost (default 12)")  # fmt: skip
+                        "search by reduction per cost (default 12, at most 16)")  # fmt: skip
     parser.add_argument(
         "--json", action="store_true", help="print one JSON object instead (keys in docs/json.md)"
     )

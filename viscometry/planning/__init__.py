@@ -20,6 +20,7 @@ from viscometry.planning.target import (
 )
 from viscometry.planning.upgrades import (
     MAX_CANDIDATES,
+    MAX_EXHAUSTIVE,
     TARGET_TOLERANCE,
     UpgradeCandidate,
     UpgradeOption,
@@ -40,6 +41,7 @@ from viscometry.planning.working_range import (
 
 __all__ = [
     "MAX_CANDIDATES",
+    "MAX_EXHAUSTIVE",
     "MAX_POINTS",
     "ROUND_UP_ALLOWANCE",
     "TARGET_TOLERANCE",
