@@ -148,3 +148,15 @@ def test_model_failure_exits_2(capsys, tmp_path):
     out, err = capsys.readouterr()
     assert code == 2 and out == ""
     assert err.startswith(f"viscometry: error: {path}: ") and "non-finite" in err
+
+
+def test_a_run_without_seed_prints_the_seed_it_drew_and_can_be_repeated(r4_file, capsys):
+    # Reproducibility: the record of a run must be enough to repeat it (common practice).
+    path = str(r4_file)
+    assert main(["simulate", path, "--trials", "2000"]) == 0
+    out = capsys.readouterr().out
+    seed = int(out.split("repeat this run with --seed ")[1].split()[0])
+    assert main(["simulate", path, "--trials", "2000", "--seed", str(seed)]) == 0
+    again = capsys.readouterr().out
+    first = [line for line in out.splitlines() if "drawn at random" not in line]
+    assert first == again.splitlines()

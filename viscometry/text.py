@@ -394,7 +394,11 @@ def simulation_lines(sim: BudgetSimulation) -> list[str]:
     unit = unit_suffix(sim.unit)
     dec = decimals_for(sim.validation.tolerance)
     name = symbol(sim.measurand)
-    seed = "no seed (generator passed in)" if mc.seed is None else f"seed {mc.seed}"
+    seed = (
+        "no seed (a generator was passed in; not repeatable from this record)"
+        if mc.seed is None
+        else f"seed {mc.seed}"
+    )
     kind = "probabilistically symmetric" if mc.interval_kind == "symmetric" else "shortest"
     low, high = mc.interval
     f_low, f_high = sim.first_order_interval

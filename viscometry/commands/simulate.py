@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import secrets
 
 NAME = "simulate"
 HELP = (
@@ -77,7 +78,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         type=whole_number,
         default=None,
         metavar="S",
-        help="seed of the random number generator (same seed, same numbers)",
+        help="seed of the random number generator (same seed, same numbers; without it a "
+        "seed is drawn at random and printed)",
     )
     parser.add_argument(
         "--interval",
@@ -114,10 +116,12 @@ def run(args: argparse.Namespace) -> int:
     from viscometry.text import simulation_lines
 
     bf = load_budget(args.file)
+    # Without --seed, a seed is drawn and shown, so that every run can be repeated exactly.
+    seed = args.seed if args.seed is not None else secrets.randbits(32)
     try:
         sim = simulate_budget(
             bf.budget, trials=args.trials, adaptive=args.adaptive,
-            significant_digits=args.digits, seed=args.seed, interval=args.interval,
+            significant_digits=args.digits, seed=seed, interval=args.interval,
             higher_order_reference=args.higher_order,
         )  # fmt: skip
     except ViscometryError as exc:
@@ -131,5 +135,7 @@ def run(args: argparse.Namespace) -> int:
         print_json(out, source=bf.source)
     else:
         print("\n".join(simulation_lines(sim)))
+        if args.seed is None:
+            print(f"seed drawn at random; repeat this run with --seed {seed}")
         print("\n".join(provenance_lines(bf)))
     return 0
