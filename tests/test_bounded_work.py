@@ -197,3 +197,15 @@ def test_rounding_keeps_every_digit_of_an_extreme_ratio():
 
     r = round_result(1.0016, 4.5e-303)
     assert r.decimals == 304 and r.uncertainty.endswith("45") and r.value.startswith("1.0016")
+
+
+def test_a_result_says_when_its_higher_order_terms_are_finite_differences(monkeypatch):
+    # The record must show how a number was obtained (this package's own wording).
+    from viscometry.gum import Budget, InputQuantity
+    from viscometry.gum.budget import HIGHER_ORDER_BY_DIFFERENCES
+
+    monkeypatch.setattr(model_module, "SYMBOLIC_HIGHER_ORDER_NODES", 0)
+    a, b = InputQuantity.normal("a", 2.0, 0.1), InputQuantity.normal("b", 3.0, 0.2)
+    budget = Budget.from_formula("y", "a*b + 0.1234567*a**3*b", [a, b])
+    assert HIGHER_ORDER_BY_DIFFERENCES in budget.evaluate(higher_order=True).warnings
+    assert HIGHER_ORDER_BY_DIFFERENCES not in budget.evaluate().warnings

@@ -65,6 +65,15 @@ __all__ = [
 #: for the plausibility warning of a coverage interval that reaches below zero.
 _POSITIVE_MEASURAND_UNITS = ("Pa*s", "m^2/s", "m^2/s^2")
 
+#: Said with a result whose higher-order terms came from finite differences (the symbolic
+#: second and third derivatives would have been too large; see ``SYMBOLIC_HIGHER_ORDER_NODES``
+#: in :mod:`viscometry.gum.model`).
+HIGHER_ORDER_BY_DIFFERENCES = (
+    "higher-order terms computed by central differences of the exact first derivatives "
+    "(their symbolic form would be too large); they agree with the exact terms to about "
+    "1e-10 of the first-order variance"
+)
+
 
 @dataclass(frozen=True, slots=True)
 class Constant:
@@ -591,6 +600,8 @@ class Budget:
             coverage_factor=self.coverage_factor, extra_variance=extra,
         )  # fmt: skip
         notes = check_propagation(self, prop, u, self.underflowed_sensitivities, _at_estimates)
+        if higher_order and self.compiled.higher_order_method == "finite differences":
+            notes = (*notes, HIGHER_ORDER_BY_DIFFERENCES)
         return assemble(self, x, y, grad, prop, higher_order, notes)
 
     @functools.cached_property
