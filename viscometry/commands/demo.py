@@ -42,7 +42,8 @@ def run(args: argparse.Namespace) -> int:
     Returns 0, or 2 when a file could not be evaluated (the others are still shown).
     """
     from viscometry.errors import InputError, ViscometryError
-    from viscometry.io.reader import is_budget_file, load_budget
+    from viscometry.audit import scan_paths
+    from viscometry.io.reader import load_budget
     from viscometry.text import budget_text, message_line, one_line, statement
 
     folder = Path(args.folder) if args.folder else default_folder()
@@ -51,9 +52,10 @@ def run(args: argparse.Namespace) -> int:
             f"the given folder {folder} does not exist; give a folder of budget files: "
             "viscometry demo FOLDER"
         )
-    candidates = sorted(folder.rglob("*.toml"))
-    files = [f for f in candidates if is_budget_file(f)]
-    skipped = [one_line(f.relative_to(folder).as_posix()) for f in candidates if f not in files]
+    # The audit's folder search: no hidden folders, no links to folders, every skip listed.
+    scan = scan_paths([folder])
+    files = list(scan.files)
+    skipped = [(_relative(s.path, folder), s.reason) for s in scan.skipped]
     if not files:
         raise InputError(f"no budget files (*.toml) found under {folder}")
     summary: list[str] = []
@@ -78,8 +80,17 @@ def run(args: argparse.Namespace) -> int:
     print("=== summary " + "=" * 68)
     for line in summary:
         print(line)
-    for label in skipped:
-        print(f'{label}: skipped, not a budget file (no format = "viscometry-budget/1")')
+    for label, reason in skipped:
+        print(f"{label}: skipped, {one_line(reason)}")
     print()
     print(CAUTION)
     return 2 if failed else 0
+
+
+def _relative(path: str, folder: Path) -> str:
+    from viscometry.text import one_line
+
+    try:
+        return one_line(Path(path).relative_to(folder).as_posix())
+    except ValueError:
+        return one_line(path)

@@ -35,7 +35,7 @@ import ipywidgets as widgets
 from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import check_name
-from viscometry.io.reader import is_budget_file, parse_toml, read_document, read_text_file
+from viscometry.io.reader import parse_toml, read_document, read_text_file
 from viscometry.io.schema import FORMAT
 from viscometry.io.writer import budget_to_document, dumps_budget, recorded_from, save_budget
 from viscometry.plots import figure_png, pareto_figure
@@ -640,10 +640,15 @@ def _example_document(method: str) -> dict[str, Any] | None:
 
 
 def _budget_files(folder: str) -> list[str]:
+    """The budget files below ``folder`` as the audit finds them (no hidden folders such as
+    ``.ipynb_checkpoints``, no links to folders; damaged files are listed so that loading one
+    says what is wrong with it)."""
+    from viscometry.audit import scan_paths
+
     p = Path(folder.strip() or ".")
     if not p.is_dir():
         return []
-    return [str(f) for f in sorted(p.rglob("*.toml")) if f.is_file() and is_budget_file(f)]
+    return [str(f) for f in scan_paths([p]).files]
 
 
 # ============================================================================ constructor
