@@ -41,8 +41,8 @@ def run(args: argparse.Namespace) -> int:
 
     Returns 0, or 2 when a file could not be evaluated (the others are still shown).
     """
-    from viscometry.errors import InputError, ViscometryError
     from viscometry.audit import scan_paths
+    from viscometry.errors import InputError, ViscometryError
     from viscometry.io.reader import load_budget
     from viscometry.text import budget_text, message_line, one_line, statement
 
