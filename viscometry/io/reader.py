@@ -199,6 +199,11 @@ def loads_budget(text: str, source_name: str = "<string>") -> BudgetFile:
 def parse_toml(text: str, src: str) -> dict[str, Any]:
     """The data of a TOML text (read with :mod:`tomllib`: data only, nothing is run), or a
     :class:`~viscometry.errors.BudgetFileError` naming ``src`` and the line."""
+    if text.startswith("\ufeff"):  # tomllib would say "Invalid statement at line 1"
+        raise BudgetFileError(
+            f"{src}: starts with a byte-order mark (BOM), which TOML does not allow; "
+            "save the file as UTF-8 without BOM"
+        )
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
