@@ -203,9 +203,11 @@ def parse_formula(
     try:
         tree = ast.parse(text.strip(), mode="eval")
     except SyntaxError as exc:
-        raise FormulaError(
-            f"{field}: syntax error at column {exc.offset}: {text.strip()[:80]!r}"
-        ) from None
+        where = f"column {exc.offset}"
+        if any(c in text.strip() for c in "\r\n"):  # one expression; breaks only inside ( )
+            where = f"line {exc.lineno}, {where} (a line break ends the formula unless it is "
+            where += "inside parentheses)"
+        raise FormulaError(f"{field}: syntax error at {where}: {text.strip()[:80]!r}") from None
     except (ValueError, RecursionError, MemoryError):
         raise FormulaError(
             f"{field}: the formula could not be parsed (too deep or invalid)"
