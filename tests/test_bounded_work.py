@@ -155,10 +155,16 @@ def test_finite_differences_refuse_a_singularity_next_to_the_estimate(monkeypatc
 def test_first_derivatives_over_the_limit_are_refused(monkeypatch):
     monkeypatch.setattr(model_module, "MAX_DERIVATIVE_NODES", 50)
     model = MeasurementModel.from_formula(_nested(6, "a*b"), ["a", "b"], output_name="y")
+    # The compiled gradient is a program of a few steps per node (no symbolic derivation);
+    # the exact symbolic derivatives are derived, and bounded, when they are asked for.
+    compiled = CompiledModel(model)
     with pytest.raises(ModelError) as info:
-        CompiledModel(model)
+        compiled.derivatives  # noqa: B018 - the property derives them
     assert "derivatives of the model of y have" in str(info.value)
     assert "have more than 50 terms (the limit" in str(info.value)
+    monkeypatch.setattr(model_module, "MAX_DERIVATIVE_NODES", 40)  # one alone has 46
+    with pytest.raises(ModelError, match="derivative by a has more than 40 terms"):
+        CompiledModel(model).derivative(0)
 
 
 def test_display_of_a_derivative_skips_simplify_where_it_would_hang():

@@ -494,16 +494,28 @@ def test_intermediate_underflow_is_refused():
     with pytest.raises(ModelError, match=r"an intermediate value of the model underflows at the "
                                          r"input estimates: y is about 1e-60"):  # fmt: skip
         b.evaluate()
-    # y = r⁴/s² with s = 1e-150 m: ∂y/∂s = −2r⁴/s³ is 0/0 in plain floats (r⁴ and s³
-    # underflow); its exact value −2e90 is named, so the cause is clear.
+    # y = r⁴/s² with s = 1e-150 m: r⁴ underflows, so y = 0 (exact analytic value 1e-60);
+    # refused like the first case (the derivative program gives finite, underflowed
+    # sensitivities here, which the exact check would not accept either).
     c = Budget.from_formula(
         "y", "r**4 / s**2",
         [InputQuantity.normal("r", 1e-90, 1e-92, "m"), InputQuantity.normal("s", 1e-150, 1e-152, "m")],
         "m^2",
     )  # fmt: skip
-    with pytest.raises(ModelError, match=r"sensitivity coefficient of s is not finite at the "
-                                         r"estimates .*exact value is about 2e\+90"):  # fmt: skip
+    with pytest.raises(ModelError, match=r"an intermediate value of the model underflows at the "
+                                         r"input estimates: y is about 1e-60"):  # fmt: skip
         c.evaluate()
+    # y = a/s² with a = 1e-200 m², s = 1e-150 m: y = 1e100 is fine, but ∂y/∂s = −2a/s³ =
+    # −2e250 (exact analytic) overflows through 1/s² = 1e300 times y: not finite in plain
+    # floats; its exact value is named, so the cause is clear.
+    d = Budget.from_formula(
+        "y", "a / s**2",
+        [InputQuantity.normal("a", 1e-200, 1e-202, "m^2"), InputQuantity.normal("s", 1e-150, 1e-152, "m")],
+        "1",
+    )  # fmt: skip
+    with pytest.raises(ModelError, match=r"sensitivity coefficient of s is not finite at the "
+                                         r"estimates .*exact value is about 2e\+250"):  # fmt: skip
+        d.evaluate()
 
 
 def test_true_zero_is_not_mistaken_for_an_underflow():

@@ -38,7 +38,14 @@ if TYPE_CHECKING:  # pragma: no cover
     from viscometry.gum.budget import Budget
     from viscometry.gum.inputs import InputQuantity
 
-__all__ = ["SCHEME", "PREFIX", "canonical_form", "canonical_json", "fingerprint"]
+__all__ = [
+    "SCHEME",
+    "PREFIX",
+    "canonical_form",
+    "canonical_json",
+    "canonical_expression",
+    "fingerprint",
+]
 
 #: Name and version of the canonical form (part of what is hashed).
 SCHEME = "viscometry-fingerprint/2"
@@ -76,6 +83,19 @@ def _expression(expr: sp.Expr) -> str:
     built in code with ``sympy.Float(0.1)`` and the same formula parsed from a file agree."""
     floats = {f: sp.Float(float(f), 17) for f in expr.atoms(sp.Float)}
     return sp.srepr(expr.xreplace(floats) if floats else expr)
+
+
+def canonical_expression(expr: sp.Expr) -> str:
+    """The canonical text of a model expression (as in the fingerprint): ``sympy.srepr`` with
+    every float at 17 digits. Equal expressions give equal texts.
+
+    Examples
+    --------
+    >>> x = sp.Symbol("x", real=True)
+    >>> canonical_expression(2 * x) == canonical_expression(x * 2)
+    True
+    """
+    return _expression(expr)
 
 
 def canonical_form(budget: Budget) -> dict[str, Any]:

@@ -21,9 +21,12 @@ Symbolic work is bounded, so that a short formula cannot keep a command busy for
 from __future__ import annotations
 
 import functools
+import hashlib
+import json
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any, Protocol
 
 import numpy as np
 import sympy as sp
@@ -31,11 +34,24 @@ import sympy as sp
 from viscometry.errors import ModelError
 from viscometry.gum.formula import expression_size, parse_formula
 from viscometry.gum.inputs import check_name
+from viscometry.gum.program import (
+    PROGRAM_VERSION,
+    Program,
+    ProgramError,
+    UnsupportedExpression,
+    compile_expression,
+)
 
 __all__ = [
     "MeasurementModel",
     "CompiledModel",
     "compile_model",
+    "CompiledStore",
+    "set_compiled_store",
+    "compiled_key",
+    "compiled_entry",
+    "programs_from_entry",
+    "symbolic_derivative",
     "MAX_DERIVATIVE_NODES",
     "SYMBOLIC_HIGHER_ORDER_NODES",
     "SIMPLIFY_NODES",
@@ -214,30 +230,90 @@ class MeasurementModel:
 
 
 class CompiledModel:
-    """Lambdified value, gradient and (lazily) Hessian of a model; cached per model.
+    """Value, gradient and (lazily) Hessian of a model as compiled programs; cached per model.
 
     All callables take the input values followed by the constant values, as floats or
-    broadcastable numpy arrays, in the model's order.
+    broadcastable numpy arrays, in the model's order. The value and the gradient are
+    straight-line programs (:mod:`viscometry.gum.program`): the gradient by reverse-mode
+    differentiation of the value's program, whose cost grows with the size of the
+    expression, not with the number of inputs times that size. The exact symbolic
+    derivatives, for display and for the exact checks of :mod:`~viscometry.gum.validity`,
+    are derived only when asked for (:meth:`derivative`, :attr:`derivatives`).
+
+    Parameters
+    ----------
+    model : MeasurementModel
+    programs : tuple of two Program, optional
+        The value and gradient programs, e.g. from the compiled-model store; compiled from
+        the expression when not given.
     """
 
-    def __init__(self, model: MeasurementModel) -> None:
+    def __init__(
+        self, model: MeasurementModel, programs: tuple[Program, Program] | None = None
+    ) -> None:
         self.model = model
         syms = [model.symbol(n) for n in model.input_names + model.constant_names]
         self._syms = syms
-        expr = model.expression
-        # Unsimplified derivatives are lambdified (with common-subexpression elimination):
-        # simplify() is slow on large models and only matters for display.
-        self.derivatives: tuple[sp.Expr, ...] = _first_derivatives(model)
+        self._derivatives: dict[int, sp.Expr] = {}
+        self._all_derivatives: tuple[sp.Expr, ...] | None = None
         self._simplified: dict[int, sp.Expr] = {}
-        self._value = sp.lambdify(syms, expr, modules="numpy", cse=True)
-        self._gradient = sp.lambdify(syms, list(self.derivatives), modules="numpy", cse=True)
         self._hessian: Callable[..., list] | None = None
         self._symbolic_higher_order: bool | None = None
+        self.programs: tuple[Program, Program] | None = programs
+        if programs is None:
+            try:
+                self.programs = compile_expression(model.expression, syms, len(model.input_names))
+            except UnsupportedExpression:  # a sympy function outside the program's whitelist
+                self._lambdified(model)
+                return
+        value, gradient = self.programs
+        self._value = lambda *args: value.run(*args)[0]
+        self._gradient = lambda *args: gradient.run(*args)[1:]
+
+    def _lambdified(self, model: MeasurementModel) -> None:
+        """Value and gradient lambdified from the symbolic derivatives (expressions the
+        program compiler does not know; never the case for a parsed formula)."""
+        self._all_derivatives = _first_derivatives(model)
+        self._value = sp.lambdify(self._syms, model.expression, modules="numpy", cse=True)
+        self._gradient = sp.lambdify(
+            self._syms, list(self._all_derivatives), modules="numpy", cse=True
+        )
+
+    @property
+    def derivatives(self) -> tuple[sp.Expr, ...]:
+        """The exact symbolic ∂f/∂xᵢ of every input (derived on first request, then kept).
+
+        Raises
+        ------
+        ModelError
+            Together they have more than :data:`MAX_DERIVATIVE_NODES` tree nodes.
+        """
+        if self._all_derivatives is None:
+            self._all_derivatives = _first_derivatives(self.model, self._derivatives)
+        return self._all_derivatives
+
+    def derivative(self, index: int) -> sp.Expr:
+        """The exact symbolic ∂f/∂xᵢ of input ``index`` (derived on first request).
+
+        Raises
+        ------
+        ModelError
+            It has more than :data:`MAX_DERIVATIVE_NODES` tree nodes.
+        """
+        if self._all_derivatives is not None:
+            return self._all_derivatives[index]
+        if index not in self._derivatives:
+            name = self.model.input_names[index]
+            d = symbolic_derivative(self.model.expression, self.model.symbol(name))
+            if expression_size(d, MAX_DERIVATIVE_NODES) > MAX_DERIVATIVE_NODES:
+                raise _too_large(self.model, name, "derivative by " + name + " has")
+            self._derivatives[index] = d
+        return self._derivatives[index]
 
     def simplified_derivative(self, index: int) -> sp.Expr:
         """∂f/∂xᵢ simplified for display (computed on first request, then cached)."""
         if index not in self._simplified:
-            self._simplified[index] = _simplify(self.derivatives[index])
+            self._simplified[index] = _simplify(self.derivative(index))
         return self._simplified[index]
 
     def value(self, *args: object) -> np.ndarray:
@@ -256,7 +332,10 @@ class CompiledModel:
             except (ArithmeticError, TypeError) as exc:
                 raise _not_evaluable(self.model, exc, "its derivatives") from None
         if all(isinstance(a, (float, int, np.floating)) for a in args):
-            return np.array(out, dtype=float)
+            try:
+                return np.array(out, dtype=float)
+            except TypeError as exc:  # a complex value (a fractional power of a negative)
+                raise _not_evaluable(self.model, exc, "its derivatives") from None
         shape = np.broadcast_shapes(*(np.shape(a) for a in args)) if args else ()
         return np.stack([np.broadcast_to(np.asarray(g, dtype=float), shape) for g in out])
 
@@ -389,12 +468,25 @@ def _not_evaluable(model: MeasurementModel, exc: BaseException, what: str = "it"
     )
 
 
-def _first_derivatives(model: MeasurementModel) -> tuple[sp.Expr, ...]:
-    """∂f/∂xᵢ for every input, refused once together they pass :data:`MAX_DERIVATIVE_NODES`."""
+def _too_large(model: MeasurementModel, name: str, what: str) -> ModelError:
+    return ModelError(
+        f"the {what} more than {MAX_DERIVATIVE_NODES} terms (the limit; reached at the "
+        f"derivative by {name}) in the model of {model.output_name}; write the model with "
+        "fewer nested or repeated functions",
+        where="measurand",
+    )
+
+
+def _first_derivatives(
+    model: MeasurementModel, known: Mapping[int, sp.Expr] | None = None
+) -> tuple[sp.Expr, ...]:
+    """∂f/∂xᵢ for every input, refused once together they pass :data:`MAX_DERIVATIVE_NODES`
+    (``known``: derivatives already derived, by input index)."""
     out: list[sp.Expr] = []
     left = MAX_DERIVATIVE_NODES
-    for name in model.input_names:
-        out.append(sp.diff(model.expression, model.symbol(name)))
+    for i, name in enumerate(model.input_names):
+        d = (known or {}).get(i)
+        out.append(symbolic_derivative(model.expression, model.symbol(name)) if d is None else d)
         left -= expression_size(out[-1], max(left, 0))
         if left < 0:
             raise ModelError(
@@ -404,6 +496,79 @@ def _first_derivatives(model: MeasurementModel) -> tuple[sp.Expr, ...]:
                 where="measurand",
             )
     return tuple(out)
+
+
+#: Products with at most this many factors are differentiated by sympy's own sequence of
+#: multiplications (same result, same form); longer ones by one multiplication of all
+#: factors (the same derivative, found in linear rather than quadratic time).
+_SEQUENTIAL_FACTORS = 8
+
+
+def symbolic_derivative(expr: sp.Expr, x: sp.Symbol) -> sp.Expr:
+    """The exact derivative ∂expr/∂x, as :func:`sympy.diff` gives it, in less time.
+
+    sympy differentiates a product of m factors by m sequences of m multiplications, and
+    asks every term of a sum for its derivative: for a product or sum of n inputs, all n
+    derivatives take time of order n³. Here only the factors and terms that contain ``x``
+    are differentiated, a long product is multiplied out once per factor, and a part that
+    occurs several times is differentiated once. Sums, products, powers and the functions
+    of :data:`~viscometry.gum.formula.BASE_FUNCTIONS` follow sympy's own rules (so the
+    result is the same expression, or for long products an equal one); anything else is
+    left to :func:`sympy.diff`.
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+    x : sympy.Symbol
+
+    Returns
+    -------
+    sympy.Expr
+
+    Examples
+    --------
+    >>> a, b, c = sp.symbols("a b c", real=True)
+    >>> symbolic_derivative(a * b**2 / c + sp.exp(a * c), a)
+    b**2/c + c*exp(a*c)
+    """
+    memo: dict[sp.Basic, sp.Expr] = {}
+
+    def d(e: sp.Expr) -> sp.Expr:
+        if e == x:
+            return sp.S.One
+        if not e.has_free(x):
+            return sp.S.Zero
+        if e not in memo:
+            memo[e] = rule(e)
+        return memo[e]
+
+    def rule(e: sp.Expr) -> sp.Expr:
+        if e.is_Add:
+            return sp.Add(*[d(a) for a in e.args])
+        if e.is_Mul:
+            args, terms = list(e.args), []
+            for i, a in enumerate(args):
+                da = d(a)
+                if da:
+                    parts = [*args[:i], da, *args[i + 1 :]]
+                    if len(args) <= _SEQUENTIAL_FACTORS:
+                        terms.append(functools.reduce(lambda p, q: p * q, parts, sp.S.One))
+                    else:
+                        terms.append(sp.Mul(*parts))
+            return sp.Add.fromiter(terms)
+        if e.is_Pow:
+            base, exp = e.args
+            return e * (d(exp) * sp.log(base) + d(base) * exp / base)
+        if isinstance(e, sp.Function) and type(e)._eval_derivative is sp.Function._eval_derivative:
+            parts = []
+            for i, a in enumerate(e.args, start=1):
+                da = d(a)
+                if not da.is_zero:
+                    parts.append(e.fdiff(i) * da)
+            return sp.Add(*parts)
+        return sp.diff(e, x)
+
+    return d(expr)
 
 
 def _quick_to_simplify(expr: sp.Basic, cap: int = 60, degree: int = 12) -> bool:
@@ -449,15 +614,117 @@ def _simplify(expr: sp.Expr) -> sp.Expr:
     return expr
 
 
+class CompiledStore(Protocol):
+    """Where compiled models are kept between processes (see :func:`set_compiled_store`).
+
+    The engine hands a store plain data only (dicts, lists, strings, integers) and reads
+    plain data back; it checks every entry it gets (:func:`programs_from_entry`) and never
+    runs anything from it. A store keeps entries wherever it likes (the command line and the
+    workbooks install :class:`viscometry.cache.DiskStore`); it must not raise.
+    """
+
+    def get(self, key: str) -> Any:
+        """The entry stored under ``key``, or None."""
+
+    def put(self, key: str, entry: Mapping[str, Any]) -> None:
+        """Keep ``entry`` under ``key`` (best effort)."""
+
+
+#: Name and version of a compiled-model entry (part of its key).
+COMPILED_SCHEME = f"viscometry-compiled/{PROGRAM_VERSION}"
+_STORE: list[CompiledStore | None] = [None]
+
+
+def set_compiled_store(store: CompiledStore | None) -> CompiledStore | None:
+    """Install the store of compiled models used by :func:`compile_model` (None: none).
+
+    Returns the store installed before, so a caller can put it back. Without a store
+    (the default) compiled models are kept in memory for the process only.
+    """
+    previous = _STORE[0]
+    _STORE[0] = store
+    return previous
+
+
+def compiled_key(model: MeasurementModel) -> str:
+    """The key of a model's compiled form: SHA-256 over the canonical expression
+    (:func:`~viscometry.gum.canonical.canonical_expression`), the input and constant names
+    in order, and :data:`COMPILED_SCHEME`; ``"sha256:<64 hex digits>"``."""
+    from viscometry.gum.canonical import canonical_expression
+
+    text = json.dumps(
+        [COMPILED_SCHEME, canonical_expression(model.expression), model.input_names,
+         model.constant_names], separators=(",", ":"), ensure_ascii=True,
+    )  # fmt: skip
+    return "sha256:" + hashlib.sha256(text.encode("ascii")).hexdigest()
+
+
+def compiled_entry(key: str, compiled: CompiledModel) -> dict[str, Any]:
+    """The plain-data entry that stores ``compiled`` under ``key``."""
+    assert compiled.programs is not None
+    value, gradient = compiled.programs
+    return {
+        "scheme": COMPILED_SCHEME,
+        "key": key,
+        "inputs": list(compiled.model.input_names),
+        "constants": list(compiled.model.constant_names),
+        "value": value.to_data(),
+        "gradient": gradient.to_data(),
+    }
+
+
+def programs_from_entry(
+    entry: Any, key: str, model: MeasurementModel
+) -> tuple[Program, Program] | None:
+    """The value and gradient programs of a stored entry, or None when the entry is not a
+    well-formed entry for exactly this model (it is then ignored and compiled anew)."""
+    try:
+        if not isinstance(entry, Mapping) or entry.get("scheme") != COMPILED_SCHEME:
+            return None
+        if entry.get("key") != key or entry.get("inputs") != list(model.input_names):
+            return None
+        if entry.get("constants") != list(model.constant_names):
+            return None
+        value = Program.from_data(entry.get("value"))
+        gradient = Program.from_data(entry.get("gradient"))
+    except ProgramError:
+        return None
+    n = len(model.input_names) + len(model.constant_names)
+    if value.arguments != n or gradient.arguments != n or len(value.outputs) != 1:
+        return None
+    if len(gradient.outputs) != len(model.input_names) + 1:
+        return None
+    return value, gradient
+
+
 @functools.lru_cache(maxsize=256)
 def _compile_cached(
     expr: sp.Expr, inputs: tuple[str, ...], consts: tuple[str, ...], out: str
 ) -> CompiledModel:
-    return CompiledModel(MeasurementModel(expr, inputs, consts, out))
+    model = MeasurementModel(expr, inputs, consts, out)
+    store = _STORE[0]
+    if store is None:
+        return CompiledModel(model)
+    key = compiled_key(model)
+    try:
+        found = store.get(key)
+    except Exception:  # noqa: BLE001 - a store must not stop a computation
+        found = None
+    programs = programs_from_entry(found, key, model)
+    if programs is not None:
+        return CompiledModel(model, programs)
+    compiled = CompiledModel(model)
+    if compiled.programs is not None:
+        try:
+            store.put(key, compiled_entry(key, compiled))
+        except Exception:  # noqa: BLE001
+            pass
+    return compiled
 
 
 def compile_model(model: MeasurementModel) -> CompiledModel:
-    """The cached :class:`CompiledModel` of ``model`` (derived and lambdified once)."""
+    """The cached :class:`CompiledModel` of ``model`` (compiled once per process, and kept
+    in the installed store of compiled models, if any: :func:`set_compiled_store`)."""
     return _compile_cached(
         model.expression, model.input_names, model.constant_names, model.output_name
     )
