@@ -80,7 +80,7 @@ GENERATED = {
     "generated_long_formula": (
         _long_formula,
         "BudgetFileError",
-        ["[measurand] model", "100001 characters long", "limit is 2000"],
+        ["[measurand] model", "100001 characters long", "limit is 100000"],
     ),
 }
 

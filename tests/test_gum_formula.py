@@ -56,7 +56,9 @@ HOSTILE = [
     "x % 2",
     "~x",
     "(" * 200 + "x" + ")" * 200,
-    "x + " * 2000 + "x",
+    "x + " * 6000 + "x",  # a flat chain past MAX_OPEN_OPERATORS (2000 terms are accepted)
+    "-" * 2000 + "x",  # 2000 signs nested in one another
+    "x + " * 25_000 + "x",  # past MAX_FORMULA_LENGTH
     "x" * 3000,
     "",
     "   ",

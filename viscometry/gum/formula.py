@@ -21,7 +21,9 @@ memory or time either. Nothing here calls ``eval``, ``exec``, ``sympify`` or
 from __future__ import annotations
 
 import ast
+import io
 import math
+import tokenize
 from collections.abc import Callable, Iterable, Mapping
 
 import sympy as sp
@@ -34,18 +36,26 @@ __all__ = [
     "MAX_FORMULA_LENGTH",
     "MAX_DEPTH",
     "MAX_NODES",
+    "MAX_OPEN_OPERATORS",
     "MAX_EXPONENT",
     "MAX_NUMBER_BITS",
     "MAX_EXPRESSION_NODES",
     "expression_size",
 ]
 
-#: Longest formula accepted, in characters.
-MAX_FORMULA_LENGTH = 2000
-#: Deepest nesting of the syntax tree accepted.
+#: Longest formula accepted, in characters (a sum or product of 1000 inputs with names of
+#: up to about 90 characters fits).
+MAX_FORMULA_LENGTH = 100_000
+#: Deepest real nesting accepted: parentheses, function calls, powers and unary signs inside
+#: one another. A chain of one operator family (``a + b - c + …`` or ``a * b / c * …``) is
+#: one level however long it is.
 MAX_DEPTH = 40
-#: Largest number of syntax-tree nodes accepted.
-MAX_NODES = 400
+#: Largest number of syntax-tree nodes accepted (a sum of 1000 inputs has about 4000).
+MAX_NODES = 20_000
+#: Largest number of operators, signs and keywords that are open at one place of a
+#: formula, counted before Python's parser sees it (its syntax tree is as deep as that: the
+#: parser nests a chain ``a + b + c`` to the left). A sum of 1000 products has about 2000.
+MAX_OPEN_OPERATORS = 5000
 #: Largest absolute value of a numeric exponent (``x**1000`` is refused).
 MAX_EXPONENT = 64
 #: Largest size, in bits, of an exact integer or rational built from literals (about 10**300;
@@ -85,6 +95,14 @@ _BINOPS: dict[type, Callable[[sp.Expr, sp.Expr], sp.Expr]] = {
 }
 
 
+#: Operator families whose chains count as one level of nesting.
+_FAMILY: dict[type, str] = {ast.Add: "add", ast.Sub: "add", ast.Mult: "mul", ast.Div: "mul"}
+#: Chains of at most this many operators are built operator by operator, exactly as before
+#: chains counted as nesting (so their expressions and fingerprints are unchanged); longer
+#: ones as one sum or product (the same value, built in linear time).
+_PAIRWISE_LINKS = 40
+
+
 def _describe(node: ast.AST) -> str:
     try:
         return repr(ast.unparse(node)[:60])
@@ -122,6 +140,33 @@ def expression_size(expr: sp.Basic, limit: int) -> int:
         if count > limit:
             break
     return count
+
+
+_KEYWORD_OPERATORS = frozenset({"if", "else", "and", "or", "not", "lambda", "for", "in", "is"})
+
+
+def _open_operators(text: str) -> int:
+    """The most operators, signs and operator keywords open at one place: those of every
+    bracket level still open there, plus one per open bracket. Python's parser builds a
+    syntax tree about that deep (a chain nests to the left), so a formula is refused on it
+    before parsing; counted with the tokenizer, iteratively, for any length of text. Text
+    the tokenizer refuses counts 0 (the parser then reports the syntax error)."""
+    counts = [0]
+    most = 0
+    try:
+        for tok in tokenize.generate_tokens(io.StringIO(text).readline):
+            if tok.type == tokenize.OP and tok.string in "([{":
+                counts.append(0)
+            elif tok.type == tokenize.OP and tok.string in ")]}" and len(counts) > 1:
+                counts.pop()
+            elif (tok.type == tokenize.OP and tok.string not in ",:;") or (
+                tok.type == tokenize.NAME and tok.string in _KEYWORD_OPERATORS
+            ):
+                counts[-1] += 1
+                most = max(most, sum(counts) + len(counts))
+    except (tokenize.TokenError, SyntaxError, ValueError):  # IndentationError too
+        return most
+    return most
 
 
 def _function_registry(extra: Mapping[str, Callable[..., sp.Expr]] | None) -> dict:
@@ -191,6 +236,11 @@ def parse_formula(
             depth -= 1
     if deepest > MAX_DEPTH:
         raise FormulaError(f"{field}: parentheses nested {deepest} deep; the limit is {MAX_DEPTH}")
+    chained = _open_operators(text.strip())
+    if chained > MAX_OPEN_OPERATORS:
+        raise FormulaError(
+            f"{field} has {chained} operators in a row; the limit is {MAX_OPEN_OPERATORS}"
+        )
     allowed = {}
     for n in names:
         if n in _BUILTIN_CONSTANTS:
@@ -244,6 +294,8 @@ class _Builder:
             return self.constant(node)
         if isinstance(node, ast.Name):
             return self.name(node.id)
+        if isinstance(node, ast.BinOp) and type(node.op) in _FAMILY:
+            return self.chain(node, d)
         if isinstance(node, ast.BinOp):
             op = _BINOPS.get(type(node.op))
             if op is None:
@@ -275,6 +327,32 @@ class _Builder:
         if isinstance(node, (ast.ListComp, ast.SetComp, ast.DictComp, ast.GeneratorExp)):
             raise self.fail("comprehensions are not allowed")
         raise self.fail(f"{type(node).__name__} {_describe(node)} is not allowed")
+
+    def chain(self, node: ast.BinOp, depth: int) -> sp.Expr:
+        """A chain of one operator family, ``a + b - c …`` or ``a * b / c …``: one level of
+        nesting, built without recursion along the chain (Python nests it to the left)."""
+        family = _FAMILY[type(node.op)]
+        links: list[ast.BinOp] = []
+        first: ast.expr = node
+        while isinstance(first, ast.BinOp) and _FAMILY.get(type(first.op)) == family:
+            links.append(first)
+            first = first.left
+        links.reverse()
+        acc = self.build(first, depth)
+        if len(links) <= _PAIRWISE_LINKS:  # term by term, as Python's operators would
+            for link in links:
+                right = self.build(link.right, depth)
+                acc = self.check_number(_BINOPS[type(link.op)](acc, right), link)
+            return acc
+        parts = [acc]
+        for link in links:  # a long chain: one sum or product of all its terms
+            right = self.build(link.right, depth)
+            if isinstance(link.op, ast.Sub):
+                right = -right
+            elif isinstance(link.op, ast.Div):
+                right = self.check_number(sp.Pow(right, -1), link.right)
+            parts.append(right)
+        return self.check_number((sp.Add if family == "add" else sp.Mul)(*parts), node)
 
     def constant(self, node: ast.Constant) -> sp.Expr:
         v = node.value
