@@ -5,21 +5,30 @@ files, widgets, the API) are parsed and turned into plain conversion factors:
 ``x_SI = scale * x + offset``. Uncertainties, being differences, use ``scale`` only — so a
 temperature given in ``degC`` has its estimate shifted by 273.15 K while its uncertainty is
 a temperature difference in kelvin.
+
+The registry (:func:`registry`, also reachable as ``ureg``) is built once, on first use, not
+when this module is imported: importing :mod:`viscometry.units` costs no pint, numpy or sympy,
+so that a command's ``--help`` starts at once. Pint's own definition cache
+(``UnitRegistry(cache_folder=...)``) is not used: it stores pickles, which run code when
+loaded, and a damaged cache file makes pint raise instead of rebuilding.
 """
 
 from __future__ import annotations
 
 import functools
 import re
+import threading
 from collections.abc import Callable, Mapping
-
-import numpy as np
-import pint
-import sympy as sp
+from typing import TYPE_CHECKING, Any
 
 from viscometry.errors import UnitError
 
+if TYPE_CHECKING:
+    import pint
+    import sympy as sp
+
 __all__ = [
+    "registry",
     "ureg",
     "parse_unit",
     "si_conversion",
@@ -32,9 +41,45 @@ __all__ = [
     "canonical_unit",
 ]
 
-#: The package's single unit registry.
-ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-ureg.formatter.default_format = "~P"
+#: The package's single unit registry, built on first use (module ``__getattr__`` below).
+ureg: pint.UnitRegistry
+_REGISTRY: pint.UnitRegistry | None = None
+_REGISTRY_LOCK = threading.Lock()
+
+
+def registry() -> pint.UnitRegistry:
+    """The package's single unit registry, built on the first call and kept.
+
+    Also reachable as ``viscometry.units.ureg``. Built under a lock, so threads that ask at
+    once get the same registry (units of two registries cannot be combined).
+
+    Examples
+    --------
+    >>> registry() is registry()
+    True
+    """
+    global _REGISTRY
+    if _REGISTRY is None:
+        with _REGISTRY_LOCK:
+            if _REGISTRY is None:
+                import pint
+
+                reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+                reg.formatter.default_format = "~P"
+                _REGISTRY = reg
+    return _REGISTRY
+
+
+def __getattr__(name: str) -> Any:
+    # PEP 562: ``ureg``, the package's single unit registry, is built on first use.
+    if name == "ureg":
+        return registry()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted({*globals(), "ureg"})
+
 
 _UNIT_TEXT = re.compile(r"^[A-Za-z0-9_ *./^()\-+µμ°%·²³]*$")
 _MAX_UNIT_LENGTH = 80
@@ -44,6 +89,7 @@ _NUMBER_POWER = re.compile(r"[0-9.]\s*(\*\*|\^)")
 
 @functools.lru_cache(maxsize=512)
 def _parse(text: str) -> pint.Unit:
+    ureg = registry()
     q = ureg.Quantity(1.0, text) if text else ureg.Quantity(1.0)
     return q.units
 
@@ -77,6 +123,8 @@ def parse_unit(text: str, field: str = "unit") -> pint.Unit:
         .replace("μ", "u")
         .replace("µ", "u")
     )
+    import pint
+
     try:
         unit = _parse(t)
     except (pint.errors.PintError, AttributeError, TypeError, ValueError, SyntaxError, KeyError):
@@ -89,6 +137,7 @@ def parse_unit(text: str, field: str = "unit") -> pint.Unit:
 @functools.lru_cache(maxsize=512)
 def _conversion(unit_text: str) -> tuple[float, float]:
     unit = parse_unit(unit_text)
+    ureg = registry()
     zero = ureg.Quantity(0.0, unit).to_base_units().magnitude
     one = ureg.Quantity(1.0, unit).to_base_units().magnitude
     return float(one - zero), float(zero)
@@ -120,7 +169,7 @@ _KNOWN_CONVERSIONS: dict[str, tuple[float, float]] = {}
 
 def si_unit_label(unit: str) -> str:
     """The SI base unit that a unit converts to (for labels), e.g. ``'kg / m / s'``."""
-    u = ureg.Quantity(1.0, parse_unit(unit)).to_base_units().units
+    u = registry().Quantity(1.0, parse_unit(unit)).to_base_units().units
     return format_unit(u)
 
 
@@ -147,7 +196,7 @@ def format_unit(unit: pint.Unit | str) -> str:
     ('mm²/s', 'mPa·s', 'mm²/(s·K)', '1/K')
     """
     u = parse_unit(unit) if isinstance(unit, str) else unit
-    if u == ureg.dimensionless:
+    if u == registry().dimensionless:
         return ""
     items = list(u._units.items())
     up = [_power(_symbol(n), e) for n, e in items if e > 0]
@@ -161,7 +210,7 @@ def format_unit(unit: pint.Unit | str) -> str:
 
 @functools.lru_cache(maxsize=256)
 def _symbol(name: str) -> str:
-    return str(ureg.get_symbol(name))
+    return str(registry().get_symbol(name))
 
 
 @functools.lru_cache(maxsize=1024)
@@ -218,6 +267,7 @@ def sensitivity_unit(output_unit: str, input_unit: str) -> str:
     >>> sensitivity_unit("mm", "mm")
     '1'
     """
+    ureg = registry()
     out = parse_unit(output_unit)
     inp = parse_unit(input_unit)
     if si_conversion(input_unit)[1] != 0.0:  # offset unit: per degree of difference
@@ -325,6 +375,9 @@ def _check_uncached(
     function_placeholders: Mapping[sp.Symbol, tuple[sp.Expr, str, str]] | None,
     field: str,
 ) -> None:
+    import numpy as np
+
+    ureg = registry()
     placeholders = dict(function_placeholders or {})
     values: dict[sp.Symbol, object] = {}
     needed = set(expression.free_symbols).union(
@@ -361,16 +414,21 @@ def _check_uncached(
 
 
 def _dimensionality(x: object) -> object:
+    ureg = registry()
     return x.dimensionality if isinstance(x, ureg.Quantity) else ureg.dimensionless.dimensionality
 
 
 def _base_label(x: object) -> str:
-    if isinstance(x, ureg.Quantity):
+    if isinstance(x, registry().Quantity):
         return format_unit(x.to_base_units().units) or "1"
     return "1"
 
 
 def _evaluate_with_units(expr: sp.Expr, values: Mapping[sp.Symbol, object], field: str) -> object:
+    import numpy as np
+    import pint
+    import sympy as sp
+
     syms = sorted(expr.free_symbols, key=lambda s: s.name)
     fn: Callable = sp.lambdify(syms, expr, modules="numpy")
     try:
