@@ -318,6 +318,8 @@ UNPICKLERS = {"pickle", "marshal", "shelve", "yaml", "dill", "cloudpickle"}
 # Imports by a computed name, with why the name cannot come from a file.
 COMPUTED_IMPORTS = {
     "viscometry/cli.py": "subcommand modules found by pkgutil in viscometry/commands",
+    "viscometry/_lazy.py": "a package's public names from the literal _LAZY table of its "
+    "__init__ (checked by tests/test_startup.py), or its own module files found by pkgutil",
 }
 
 

@@ -9,8 +9,9 @@ Layers (data flows one way):
 * edges — :mod:`viscometry.units`, budget files, the command line, reports, widgets.
 """
 
-from importlib.metadata import PackageNotFoundError, version
+from typing import Any
 
+from viscometry._lazy import lazy_names
 from viscometry.errors import (
     BudgetFileError,
     CorrelationError,
@@ -22,19 +23,40 @@ from viscometry.errors import (
     ViscometryError,
     ViscometryWarning,
 )
-from viscometry.gum import (
-    Budget,
-    BudgetResult,
-    Constant,
-    Correlation,
-    InputQuantity,
-    MeasurementModel,
-)
 
-try:
-    __version__ = version("viscometry")
-except PackageNotFoundError:  # pragma: no cover - running from a source tree without install
-    __version__ = "0.0.0+unknown"
+# The engine's names are imported on first use (see :mod:`viscometry._lazy`): ``import
+# viscometry`` costs the error classes only; sympy, numpy and scipy come with the first budget.
+_LAZY = {
+    "viscometry.gum": (
+        "Budget",
+        "BudgetResult",
+        "Constant",
+        "Correlation",
+        "InputQuantity",
+        "MeasurementModel",
+    ),
+}
+_names_getattr, _names_dir = lazy_names(globals(), _LAZY)
+
+
+def __getattr__(name: str) -> Any:
+    # PEP 562: the engine's names on first use; ``__version__`` read from the installed
+    # package's metadata on first use (importlib.metadata is not free to import).
+    if name == "__version__":
+        from importlib.metadata import PackageNotFoundError, version
+
+        try:
+            value = version("viscometry")
+        except PackageNotFoundError:  # pragma: no cover - a source tree without install
+            value = "0.0.0+unknown"
+        globals()["__version__"] = value
+        return value
+    return _names_getattr(name)
+
+
+def __dir__() -> list[str]:
+    return sorted({*_names_dir(), "__version__"})
+
 
 __all__ = [
     "Budget",

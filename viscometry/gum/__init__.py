@@ -1,45 +1,52 @@
 """The GUM engine: inputs, whitelist formula parser, models, propagation, rounding, budgets."""
 
-from viscometry.gum.budget import (
-    DEFAULT_COVERAGE_PROBABILITY,
-    Budget,
-    BudgetResult,
-    Constant,
-    Correlation,
-    CrossTerm,
-    InputContribution,
-    LinearisedBudget,
-)
-from viscometry.gum.canonical import canonical_form, fingerprint
-from viscometry.gum.formula import parse_formula
-from viscometry.gum.inputs import (
-    DISTRIBUTIONS,
-    InputQuantity,
-    coverage_factor_for,
-    dof_from_relative_uncertainty,
-)
-from viscometry.gum.model import CompiledModel, MeasurementModel, compile_model
-from viscometry.gum.montecarlo import (
-    MonteCarloResult,
-    ValidationResult,
-    coverage_interval,
-    draw_inputs,
-    numerical_tolerance,
-    run_adaptive,
-    run_monte_carlo,
-    validate_against,
-)
-from viscometry.gum.propagation import (
-    Propagation,
-    combined_variance,
-    higher_order_variance,
-    propagate,
-    truncate_dof,
-    validate_correlation,
-    welch_satterthwaite,
-)
-from viscometry.gum.rounding import RoundedResult, round_result
-from viscometry.gum.simulation import BudgetSimulation, simulate_budget
+from viscometry._lazy import lazy_names
+
+#: Where each public name lives; imported on first use (see :mod:`viscometry._lazy`), so that
+#: ``import viscometry.gum`` costs nothing until a name is used.
+_LAZY = {
+    "viscometry.gum.budget": (
+        "DEFAULT_COVERAGE_PROBABILITY",
+        "Budget",
+        "BudgetResult",
+        "Constant",
+        "Correlation",
+        "CrossTerm",
+        "InputContribution",
+        "LinearisedBudget",
+    ),
+    "viscometry.gum.canonical": ("canonical_form", "fingerprint"),
+    "viscometry.gum.formula": ("parse_formula",),
+    "viscometry.gum.inputs": (
+        "DISTRIBUTIONS",
+        "InputQuantity",
+        "coverage_factor_for",
+        "dof_from_relative_uncertainty",
+    ),
+    "viscometry.gum.model": ("CompiledModel", "MeasurementModel", "compile_model"),
+    "viscometry.gum.montecarlo": (
+        "MonteCarloResult",
+        "ValidationResult",
+        "coverage_interval",
+        "draw_inputs",
+        "numerical_tolerance",
+        "run_adaptive",
+        "run_monte_carlo",
+        "validate_against",
+    ),
+    "viscometry.gum.propagation": (
+        "Propagation",
+        "combined_variance",
+        "higher_order_variance",
+        "propagate",
+        "truncate_dof",
+        "validate_correlation",
+        "welch_satterthwaite",
+    ),
+    "viscometry.gum.rounding": ("RoundedResult", "round_result"),
+    "viscometry.gum.simulation": ("BudgetSimulation", "simulate_budget"),
+}
+__getattr__, __dir__ = lazy_names(globals(), _LAZY)
 
 __all__ = [
     "DEFAULT_COVERAGE_PROBABILITY",

@@ -8,16 +8,23 @@
 * :mod:`viscometry.io.atomic` — the one atomic writer.
 """
 
-from viscometry.io.atomic import atomic_write_bytes, atomic_write_text
-from viscometry.io.reader import BudgetFile, is_budget_file, load_budget, loads_budget
-from viscometry.io.schema import FORMAT, MAX_FILE_BYTES, Recorded
-from viscometry.io.writer import (
-    budget_to_document,
-    dumps_budget,
-    recorded_from,
-    recorded_table,
-    save_budget,
-)
+from viscometry._lazy import lazy_names
+
+#: Where each public name lives; imported on first use (see :mod:`viscometry._lazy`).
+_LAZY = {
+    "viscometry.io.atomic": ("atomic_write_bytes", "atomic_write_text"),
+    "viscometry.io.reader": ("BudgetFile", "is_budget_file", "load_budget", "loads_budget"),
+    "viscometry.io.schema": ("FORMAT", "MAX_FILE_BYTES", "Recorded"),
+    "viscometry.io.writer": (
+        "budget_to_document",
+        "dumps_budget",
+        "recorded_from",
+        "recorded_table",
+        "save_budget",
+    ),
+}
+__getattr__, __dir__ = lazy_names(globals(), _LAZY)
+
 
 __all__ = [
     "FORMAT",

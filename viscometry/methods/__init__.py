@@ -15,37 +15,92 @@ Examples
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING, Any
+
+from viscometry._lazy import lazy_names
 from viscometry.errors import ModelError
-from viscometry.methods.base import Method
-from viscometry.methods.calibration import (
-    CONSTANT_BY_COMPARISON,
-    CONSTANT_FROM_REFERENCE_LIQUID,
-    CONSTANT_FROM_TWO_REFERENCE_LIQUIDS,
-    CertifiedLiquid,
-    StepUpChain,
-    StepUpStep,
-    step_up_chain,
-    water_reference_input,
-    water_temperature_coefficient,
+
+if TYPE_CHECKING:
+    from viscometry.methods.base import Method
+
+#: Where each name lives; imported on first use (see :mod:`viscometry._lazy`), so that the
+#: flow checks (:mod:`viscometry.methods.flow_checks`) come without every model's sympy
+#: expression. ``METHODS`` is built on first use as well.
+_LAZY = {
+    "viscometry.methods.base": ("Method",),
+    "viscometry.methods.calibration": (
+        "CONSTANT_BY_COMPARISON",
+        "CONSTANT_FROM_REFERENCE_LIQUID",
+        "CONSTANT_FROM_TWO_REFERENCE_LIQUIDS",
+        "CertifiedLiquid",
+        "StepUpChain",
+        "StepUpStep",
+        "step_up_chain",
+        "water_reference_input",
+        "water_temperature_coefficient",
+    ),
+    "viscometry.methods.dynamic": (
+        "DYNAMIC_FROM_KINEMATIC",
+        "DYNAMIC_FROM_KINEMATIC_CORRELATED",
+        "shared_temperature_correlation",
+    ),
+    "viscometry.methods.falling_sphere": ("FALLING_SPHERE", "FALLING_SPHERE_STOKES"),
+    "viscometry.methods.gas_capillary": ("GAS_CAPILLARY", "GAS_CAPILLARY_SLIP"),
+    "viscometry.methods.glass_capillary": (
+        "GLASS_CAPILLARY_CORRECTED",
+        "GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION",
+        "GLASS_CAPILLARY_HAGENBACH",
+        "GLASS_CAPILLARY_KINETIC",
+    ),
+    "viscometry.methods.pressure_capillary": (
+        "PRESSURE_CAPILLARY",
+        "PRESSURE_CAPILLARY_MANOMETER",
+        "PRESSURE_CAPILLARY_MERCURY_THREAD",
+    ),
+}
+_names_getattr, _names_dir = lazy_names(globals(), _LAZY)
+
+#: The registry's models, by name, in display order.
+_ORDER = (
+    "PRESSURE_CAPILLARY",
+    "PRESSURE_CAPILLARY_MANOMETER",
+    "PRESSURE_CAPILLARY_MERCURY_THREAD",
+    "GLASS_CAPILLARY_KINETIC",
+    "GLASS_CAPILLARY_HAGENBACH",
+    "GLASS_CAPILLARY_CORRECTED",
+    "GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION",
+    "CONSTANT_FROM_REFERENCE_LIQUID",
+    "CONSTANT_FROM_TWO_REFERENCE_LIQUIDS",
+    "CONSTANT_BY_COMPARISON",
+    "DYNAMIC_FROM_KINEMATIC",
+    "DYNAMIC_FROM_KINEMATIC_CORRELATED",
+    "FALLING_SPHERE",
+    "FALLING_SPHERE_STOKES",
+    "GAS_CAPILLARY",
+    "GAS_CAPILLARY_SLIP",
 )
-from viscometry.methods.dynamic import (
-    DYNAMIC_FROM_KINEMATIC,
-    DYNAMIC_FROM_KINEMATIC_CORRELATED,
-    shared_temperature_correlation,
-)
-from viscometry.methods.falling_sphere import FALLING_SPHERE, FALLING_SPHERE_STOKES
-from viscometry.methods.gas_capillary import GAS_CAPILLARY, GAS_CAPILLARY_SLIP
-from viscometry.methods.glass_capillary import (
-    GLASS_CAPILLARY_CORRECTED,
-    GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION,
-    GLASS_CAPILLARY_HAGENBACH,
-    GLASS_CAPILLARY_KINETIC,
-)
-from viscometry.methods.pressure_capillary import (
-    PRESSURE_CAPILLARY,
-    PRESSURE_CAPILLARY_MANOMETER,
-    PRESSURE_CAPILLARY_MERCURY_THREAD,
-)
+
+
+def _registry() -> dict[str, Method]:
+    """``METHODS``: the built-in models by name (in display order), built on first use."""
+    methods = globals().get("METHODS")
+    if methods is None:
+        methods = {m.name: m for m in (_names_getattr(n) for n in _ORDER)}
+        globals()["METHODS"] = methods
+    return methods
+
+
+def __getattr__(name: str) -> Any:
+    # PEP 562: the models and ``METHODS`` (registry of the built-in models, by name, in
+    # display order) on first use.
+    if name == "METHODS":
+        return _registry()
+    return _names_getattr(name)
+
+
+def __dir__() -> list[str]:
+    return sorted({*_names_dir(), "METHODS"})
+
 
 __all__ = [
     "METHODS",
@@ -61,29 +116,6 @@ __all__ = [
     "shared_temperature_correlation",
 ]
 
-#: Registry of the built-in models, by name (in display order).
-METHODS: dict[str, Method] = {
-    m.name: m
-    for m in (
-        PRESSURE_CAPILLARY,
-        PRESSURE_CAPILLARY_MANOMETER,
-        PRESSURE_CAPILLARY_MERCURY_THREAD,
-        GLASS_CAPILLARY_KINETIC,
-        GLASS_CAPILLARY_HAGENBACH,
-        GLASS_CAPILLARY_CORRECTED,
-        GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION,
-        CONSTANT_FROM_REFERENCE_LIQUID,
-        CONSTANT_FROM_TWO_REFERENCE_LIQUIDS,
-        CONSTANT_BY_COMPARISON,
-        DYNAMIC_FROM_KINEMATIC,
-        DYNAMIC_FROM_KINEMATIC_CORRELATED,
-        FALLING_SPHERE,
-        FALLING_SPHERE_STOKES,
-        GAS_CAPILLARY,
-        GAS_CAPILLARY_SLIP,
-    )
-}
-
 
 def get_method(name: str) -> Method:
     """The built-in model called ``name``.
@@ -98,12 +130,13 @@ def get_method(name: str) -> Method:
     >>> get_method("falling_sphere").output_unit
     'Pa*s'
     """
+    methods = _registry()
     try:
-        return METHODS[name]
+        return methods[name]
     except (KeyError, TypeError):
-        raise ModelError(f"unknown method {name!r} (known: {', '.join(METHODS)})") from None
+        raise ModelError(f"unknown method {name!r} (known: {', '.join(methods)})") from None
 
 
 def list_methods() -> list[Method]:
     """All built-in models, in display order."""
-    return list(METHODS.values())
+    return list(_registry().values())

@@ -13,31 +13,39 @@ Every U comes from the one propagation kernel, :func:`viscometry.gum.propagation
 The upgrade-candidates file is read by :mod:`viscometry.io.candidates`.
 """
 
-from viscometry.planning.target import (
-    RequiredUncertainty,
-    required_uncertainties,
-    required_uncertainty,
-)
-from viscometry.planning.upgrades import (
-    MAX_CANDIDATES,
-    MAX_EXHAUSTIVE,
-    TARGET_TOLERANCE,
-    UpgradeCandidate,
-    UpgradeOption,
-    UpgradePlan,
-    apply_candidates,
-    cheapest_reaching,
-    evaluate_upgrades,
-    frontier,
-)
-from viscometry.planning.working_range import (
-    MAX_POINTS,
-    ROUND_UP_ALLOWANCE,
-    WorkingRange,
-    round_up,
-    scope_table,
-    working_range,
-)
+from viscometry._lazy import lazy_names
+
+#: Where each public name lives; imported on first use (see :mod:`viscometry._lazy`).
+#: ``working_range`` is the function, also once its submodule is imported.
+_LAZY = {
+    "viscometry.planning.target": (
+        "RequiredUncertainty",
+        "required_uncertainties",
+        "required_uncertainty",
+    ),
+    "viscometry.planning.upgrades": (
+        "MAX_CANDIDATES",
+        "MAX_EXHAUSTIVE",
+        "TARGET_TOLERANCE",
+        "UpgradeCandidate",
+        "UpgradeOption",
+        "UpgradePlan",
+        "apply_candidates",
+        "cheapest_reaching",
+        "evaluate_upgrades",
+        "frontier",
+    ),
+    "viscometry.planning.working_range": (
+        "MAX_POINTS",
+        "ROUND_UP_ALLOWANCE",
+        "WorkingRange",
+        "round_up",
+        "scope_table",
+        "working_range",
+    ),
+}
+__getattr__, __dir__ = lazy_names(globals(), _LAZY)
+
 
 __all__ = [
     "MAX_CANDIDATES",

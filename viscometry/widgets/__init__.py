@@ -6,13 +6,27 @@ plain pytest. Widgets only wire controls to library functions; every change buil
 immutable budgets and results.
 """
 
-from viscometry.widgets.audit_panel import AuditPanel, audit_panel
-from viscometry.widgets.budget_editor import BudgetEditor, budget_editor
-from viscometry.widgets.builder import BudgetBuilder, budget_builder
-from viscometry.widgets.chain_panel import ChainPanel, chain_panel
-from viscometry.widgets.decisions import ConformityPanel, ScorePanel, conformity_panel, score_panel
-from viscometry.widgets.monte_carlo_panel import MonteCarloPanel, monte_carlo_panel
-from viscometry.widgets.upgrade_explorer import UpgradeExplorer, upgrade_explorer
+from viscometry._lazy import lazy_names
+
+#: Where each public name lives; imported on first use (see :mod:`viscometry._lazy`). A
+#: panel's function (``budget_editor``) stays the package's attribute once its submodule
+#: (``viscometry.widgets.budget_editor``) is imported, as with eager imports.
+_LAZY = {
+    "viscometry.widgets.audit_panel": ("AuditPanel", "audit_panel"),
+    "viscometry.widgets.budget_editor": ("BudgetEditor", "budget_editor"),
+    "viscometry.widgets.builder": ("BudgetBuilder", "budget_builder"),
+    "viscometry.widgets.chain_panel": ("ChainPanel", "chain_panel"),
+    "viscometry.widgets.decisions": (
+        "ConformityPanel",
+        "ScorePanel",
+        "conformity_panel",
+        "score_panel",
+    ),
+    "viscometry.widgets.monte_carlo_panel": ("MonteCarloPanel", "monte_carlo_panel"),
+    "viscometry.widgets.upgrade_explorer": ("UpgradeExplorer", "upgrade_explorer"),
+}
+__getattr__, __dir__ = lazy_names(globals(), _LAZY)
+
 
 __all__ = [
     "AuditPanel",
