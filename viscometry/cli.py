@@ -72,10 +72,24 @@ def discover_commands() -> tuple[list[ModuleType], list[str]]:
     return modules, problems
 
 
+class _VersionAction(argparse.Action):
+    """``--version``: print ``viscometry X.Y.Z`` on standard output and exit 0. The version is
+    read from the package's metadata only when asked (``importlib.metadata`` costs start-up
+    time that ``--help`` and every command would otherwise pay)."""
+
+    def __init__(self, option_strings: Sequence[str], dest: str = argparse.SUPPRESS,
+                 default: Any = argparse.SUPPRESS, help: str | None = None) -> None:  # fmt: skip
+        super().__init__(option_strings, dest, nargs=0, default=default, help=help)
+
+    def __call__(self, parser: argparse.ArgumentParser, *_args: Any, **_kwargs: Any) -> None:
+        from viscometry import __version__
+
+        print(f"{PROG} {__version__}")
+        parser.exit()
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser with one subparser per discovered command."""
-    from viscometry import __version__
-
     modules, problems = discover_commands()
     epilog = (
         "Run 'viscometry COMMAND --help' for the options of a command. Exit codes: 0 success, "
@@ -91,7 +105,9 @@ def build_parser() -> argparse.ArgumentParser:
         ),
         epilog=epilog,
     )
-    parser.add_argument("--version", action="version", version=f"{PROG} {__version__}")
+    parser.add_argument(
+        "--version", action=_VersionAction, help="show program's version number and exit"
+    )
     parser.add_argument(
         "--debug", action="store_true", help="on an error, print the full traceback as well"
     )

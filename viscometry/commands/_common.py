@@ -5,11 +5,15 @@ Not a command itself (its name starts with ``_``, so the command line does not l
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from viscometry.errors import BudgetFileError, ViscometryError
-from viscometry.gum.budget import BudgetResult
-from viscometry.io.reader import BudgetFile, load_budget
+
+# The engine and the file reader are imported where they are used: commands that print JSON
+# without a budget (score, decide) do not pay for them.
+if TYPE_CHECKING:
+    from viscometry.gum.budget import BudgetResult
+    from viscometry.io.reader import BudgetFile
 
 __all__ = ["evaluate_file", "json_text", "located", "print_json", "provenance_lines"]
 
@@ -23,6 +27,8 @@ def located(bf: BudgetFile, exc: ViscometryError) -> ViscometryError:
 
 def evaluate_file(path: str, *, higher_order: bool = False) -> tuple[BudgetFile, BudgetResult]:
     """Load a budget file and evaluate its budget; errors name the file."""
+    from viscometry.io.reader import load_budget
+
     bf = load_budget(path)
     try:
         return bf, bf.budget.evaluate(higher_order=higher_order)

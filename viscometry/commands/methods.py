@@ -9,10 +9,12 @@ from __future__ import annotations
 import argparse
 import sys
 import textwrap
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from viscometry.methods import Method, get_method, list_methods
 from viscometry.units import format_unit
+
+if TYPE_CHECKING:
+    from viscometry.methods import Method
 
 NAME = "methods"
 HELP = "list the built-in viscometer models with their inputs, units and references"
@@ -82,6 +84,8 @@ def _with_schema(obj: dict[str, Any]) -> dict[str, Any]:
 
 def run(args: argparse.Namespace) -> int:
     """Print the models; exit code 0. An unknown NAME raises ModelError."""
+    from viscometry.methods import get_method, list_methods
+
     name = getattr(args, "name", None)
     as_json = getattr(args, "json", False)
     if name:

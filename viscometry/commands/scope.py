@@ -18,10 +18,13 @@ HELP = (
 )
 
 
+#: The engine's limit on points (:data:`viscometry.planning.MAX_POINTS`, which refuses more),
+#: written here so that ``--help`` needs no engine import; tests/test_startup.py checks it.
+MAX_POINTS_SHOWN = 100_000
+
+
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``viscometry scope``."""
-    from viscometry.planning import MAX_POINTS
-
     parser.description = (__doc__ or HELP).split("\n", 1)[-1].strip() or HELP
     parser.add_argument("file", metavar="FILE", help="budget file (TOML, viscometry-budget/1)")
     parser.add_argument(
@@ -32,7 +35,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--to", dest="stop", required=True, type=float, metavar="B",
                         help="last estimate, in the input's own unit")  # fmt: skip
     parser.add_argument("--points", type=int, default=50, metavar="N",
-                        help=f"number of points (default 50, at most {MAX_POINTS})")  # fmt: skip
+                        help=f"number of points (default 50, at most {MAX_POINTS_SHOWN})")  # fmt: skip
     parser.add_argument("--log", action="store_true", help="geometric spacing (A and B > 0)")
     parser.add_argument(
         "--edges", metavar="EDGES",

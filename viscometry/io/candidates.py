@@ -31,14 +31,17 @@ import math
 import os
 from collections.abc import Mapping
 from dataclasses import replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from viscometry._checks import finite as _number
 from viscometry.errors import BudgetFileError, InputError
-from viscometry.gum.budget import Budget
-from viscometry.gum.inputs import DISTRIBUTIONS, InputQuantity
-from viscometry.io.reader import parse_toml, read_text_file, show_names, show_value
-from viscometry.planning.upgrades import MAX_CANDIDATES, Change, UpgradeCandidate
+
+# The engine and the reader are imported where they are used, so that importing this module
+# (for its docstring, which ``viscometry plan --help`` shows) costs nothing.
+if TYPE_CHECKING:
+    from viscometry.gum.budget import Budget
+    from viscometry.gum.inputs import InputQuantity
+    from viscometry.planning.upgrades import Change, UpgradeCandidate
 
 __all__ = ["MAX_CANDIDATES_BYTES", "candidates_from_mapping", "load_candidates"]
 
@@ -61,6 +64,8 @@ def load_candidates(
     BudgetFileError
         Naming the file, the candidate and the key.
     """
+    from viscometry.io.reader import parse_toml, read_text_file
+
     text = read_text_file(path, "a candidates file", MAX_CANDIDATES_BYTES)
     return candidates_from_mapping(parse_toml(text, str(path)), budget, source=str(path))
 
@@ -81,6 +86,8 @@ def candidates_from_mapping(
     BudgetFileError
         Naming the file, the table (``[[candidate]] #i`` with its name) and the key.
     """
+    from viscometry.io.reader import show_names, show_value
+    from viscometry.planning.upgrades import MAX_CANDIDATES
 
     def fail(where: str, msg: str) -> BudgetFileError:
         return BudgetFileError(f"{source}: {where}: {msg}")
@@ -104,6 +111,9 @@ def candidates_from_mapping(
 
 
 def _candidate(fail: Any, i: int, item: Any, budget: Budget) -> UpgradeCandidate:
+    from viscometry.io.reader import show_names, show_value
+    from viscometry.planning.upgrades import UpgradeCandidate
+
     where = f"[[candidate]] #{i}"
     if not isinstance(item, Mapping):
         raise fail(where, f"must be a table, got {show_value(item)}")
@@ -145,6 +155,8 @@ def _candidate(fail: Any, i: int, item: Any, budget: Budget) -> UpgradeCandidate
 
 def _change(q: InputQuantity, spec: object) -> Change:
     """A number (new standard uncertainty) or a replacement input from a change table."""
+    from viscometry.io.reader import show_names, show_value
+
     if isinstance(spec, bool):
         raise InputError(f"must be a number or a table, got {show_value(spec)}")
     if isinstance(spec, (int, float)):
@@ -176,6 +188,9 @@ def _change(q: InputQuantity, spec: object) -> Change:
 
 
 def _replacement(q: InputQuantity, u: float, spec: Mapping[str, Any]) -> InputQuantity:
+    from viscometry.gum.inputs import DISTRIBUTIONS
+    from viscometry.io.reader import show_value
+
     extra: dict[str, Any] = {}
     if "value" in spec:
         extra["value"] = _number(spec["value"], "value")
