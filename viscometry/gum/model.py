@@ -26,7 +26,7 @@ import json
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any, Protocol
+from typing import Any
 
 import numpy as np
 import sympy as sp
@@ -41,6 +41,7 @@ from viscometry.gum.program import (
     UnsupportedExpression,
     compile_expression,
 )
+from viscometry.gum.store import CompiledStore, compiled_store, set_compiled_store
 
 __all__ = [
     "MeasurementModel",
@@ -498,23 +499,16 @@ def _first_derivatives(
     return tuple(out)
 
 
-#: Products with at most this many factors are differentiated by sympy's own sequence of
-#: multiplications (same result, same form); longer ones by one multiplication of all
-#: factors (the same derivative, found in linear rather than quadratic time).
-_SEQUENTIAL_FACTORS = 8
-
-
 def symbolic_derivative(expr: sp.Expr, x: sp.Symbol) -> sp.Expr:
     """The exact derivative ∂expr/∂x, as :func:`sympy.diff` gives it, in less time.
 
-    sympy differentiates a product of m factors by m sequences of m multiplications, and
-    asks every term of a sum for its derivative: for a product or sum of n inputs, all n
-    derivatives take time of order n³. Here only the factors and terms that contain ``x``
-    are differentiated, a long product is multiplied out once per factor, and a part that
-    occurs several times is differentiated once. Sums, products, powers and the functions
-    of :data:`~viscometry.gum.formula.BASE_FUNCTIONS` follow sympy's own rules (so the
-    result is the same expression, or for long products an equal one); anything else is
-    left to :func:`sympy.diff`.
+    sympy asks every factor of a product and every term of a sum for its derivative, each
+    through a new ``Derivative`` object: for a product or sum of n inputs, all n derivatives
+    take time of order n³. Here only the factors and terms that contain ``x`` are
+    differentiated, and a part that occurs several times is differentiated once. Sums,
+    products, powers and the functions of :data:`~viscometry.gum.formula.BASE_FUNCTIONS`
+    follow sympy's own rules, so the result is the same expression; anything else is left
+    to :func:`sympy.diff`.
 
     Parameters
     ----------
@@ -549,13 +543,9 @@ def symbolic_derivative(expr: sp.Expr, x: sp.Symbol) -> sp.Expr:
             args, terms = list(e.args), []
             for i, a in enumerate(args):
                 da = d(a)
-                if da:
-                    parts = [*args[:i], da, *args[i + 1 :]]
-                    if len(args) <= _SEQUENTIAL_FACTORS:
-                        terms.append(functools.reduce(lambda p, q: p * q, parts, sp.S.One))
-                    else:
-                        terms.append(sp.Mul(*parts))
-            return sp.Add.fromiter(terms)
+                if da:  # the general Leibniz rule, as sympy applies it
+                    terms.append(sp.Mul(*args[:i], da, *args[i + 1 :]))
+            return sp.Add(*terms)
         if e.is_Pow:
             base, exp = e.args
             return e * (d(exp) * sp.log(base) + d(base) * exp / base)
@@ -614,36 +604,8 @@ def _simplify(expr: sp.Expr) -> sp.Expr:
     return expr
 
 
-class CompiledStore(Protocol):
-    """Where compiled models are kept between processes (see :func:`set_compiled_store`).
-
-    The engine hands a store plain data only (dicts, lists, strings, integers) and reads
-    plain data back; it checks every entry it gets (:func:`programs_from_entry`) and never
-    runs anything from it. A store keeps entries wherever it likes (the command line and the
-    workbooks install :class:`viscometry.cache.DiskStore`); it must not raise.
-    """
-
-    def get(self, key: str) -> Any:
-        """The entry stored under ``key``, or None."""
-
-    def put(self, key: str, entry: Mapping[str, Any]) -> None:
-        """Keep ``entry`` under ``key`` (best effort)."""
-
-
 #: Name and version of a compiled-model entry (part of its key).
 COMPILED_SCHEME = f"viscometry-compiled/{PROGRAM_VERSION}"
-_STORE: list[CompiledStore | None] = [None]
-
-
-def set_compiled_store(store: CompiledStore | None) -> CompiledStore | None:
-    """Install the store of compiled models used by :func:`compile_model` (None: none).
-
-    Returns the store installed before, so a caller can put it back. Without a store
-    (the default) compiled models are kept in memory for the process only.
-    """
-    previous = _STORE[0]
-    _STORE[0] = store
-    return previous
 
 
 def compiled_key(model: MeasurementModel) -> str:
@@ -702,7 +664,7 @@ def _compile_cached(
     expr: sp.Expr, inputs: tuple[str, ...], consts: tuple[str, ...], out: str
 ) -> CompiledModel:
     model = MeasurementModel(expr, inputs, consts, out)
-    store = _STORE[0]
+    store = compiled_store()
     if store is None:
         return CompiledModel(model)
     key = compiled_key(model)
