@@ -75,7 +75,9 @@ def test_flat_chains_are_one_level_but_real_nesting_is_counted():
     # 60 terms of a sum, a product and a mixed chain: one level each
     for op in (" + ", " - ", " * ", " / "):
         assert isinstance(parse_formula(op.join(names), names), sp.Expr)
-    mixed = " + ".join(f"{a} * {b} / {c}" for a, b, c in zip(names, names[1:], names[2:]))
+    mixed = " + ".join(
+        f"{a} * {b} / {c}" for a, b, c in zip(names, names[1:], names[2:], strict=False)
+    )
     assert isinstance(parse_formula(mixed, names), sp.Expr)
     # nesting: signs, powers and calls inside one another still count, one level each
     # (this package's own wording, no external source)
