@@ -99,6 +99,19 @@ def test_bad_arguments(budget):
         monte_carlo_panel(budget, trials=2.5, run_now=False)  # type: ignore[arg-type]
     with pytest.raises(InputError, match="seed"):
         monte_carlo_panel(budget, seed=-1, run_now=False)
+    with pytest.raises(InputError, match="jobs must be a whole number of at least 1, got 0"):
+        monte_carlo_panel(budget, jobs=0, run_now=False)
+
+
+def test_threads_change_nothing_but_the_speed(budget):
+    # A seeded result is the same for any number of threads (viscometry.gum.montecarlo);
+    # the progress bar is moved from the calling thread, chunk by chunk.
+    one = monte_carlo_panel(budget, "r", trials=M, seed=9, jobs=1)
+    two = monte_carlo_panel(budget, "r", trials=M, seed=9, jobs=2)
+    assert one.jobs == 1 and two.jobs == 2
+    assert two.simulation.mc == one.simulation.mc
+    assert two.progress.value == one.progress.value == M
+    assert monte_carlo_panel(budget, "r", trials=M, seed=9).simulation.mc == one.simulation.mc
 
 
 # ------------------------------------------------------------------------ refusals are shown

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import threading
 from math import comb, factorial
 
 import numpy as np
@@ -19,9 +20,14 @@ from hypothesis import strategies as st
 from scipy import integrate, optimize, stats
 
 from viscometry.errors import CorrelationError, CorrelationWarning, InputError, ModelError
+from viscometry.gum import Budget
 from viscometry.gum.inputs import InputQuantity
 from viscometry.gum.montecarlo import (
+    CHUNK_TRIALS,
+    MAX_JOBS,
     MonteCarloResult,
+    available_cores,
+    check_jobs,
     coverage_interval,
     draw_inputs,
     numerical_tolerance,
@@ -29,6 +35,7 @@ from viscometry.gum.montecarlo import (
     run_monte_carlo,
     validate_against,
 )
+from viscometry.gum.simulation import simulate_budget
 from viscometry.text import validation_statement
 
 M = 10**6
@@ -345,22 +352,160 @@ def test_same_seed_is_bit_identical_and_other_seed_differs():
     assert run_monte_carlo(_demo_model, xs, trials=1000, rng=np.random.default_rng(1)).seed is None
 
 
-def test_chunk_size_does_not_change_the_result():
-    # Per-input child streams are read sequentially, so chunking preserves the draws.
-    xs = _demo_inputs()
+# Three whole chunks and a partial one, so that the last chunk's draws are cut.
+M_CHUNKS = 3 * CHUNK_TRIALS + 17
+
+
+def _demo_correlation():
     corr = np.eye(4)
     corr[0, 1] = corr[1, 0] = 0.5
-    # input b is t-distributed: in the correlated block it is drawn as a normal, and said so
-    with pytest.warns(CorrelationWarning, match=r"b \(student_t\)"):
-        base = run_monte_carlo(
-            _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=30_000
-        )
-    for chunk in (3, 977, 10_000):
-        with pytest.warns(CorrelationWarning):
-            other = run_monte_carlo(
-                _demo_model, xs, correlation=corr, trials=30_000, seed=4, chunk_size=chunk
-            )
-        assert other == base
+    return corr
+
+
+@pytest.mark.parametrize("p", [0.9545, 0.5])  # tails sorted in pieces; one sort (big tails)
+def test_seeded_result_is_bit_identical_for_any_number_of_threads(p):
+    # The stream layout of the module notes: chunk k's draws depend only on the seed and k,
+    # and every summary is an order statistic or a sum in trial order, so the number of
+    # threads cannot change a bit of the result (this package's own design, no source).
+    xs = _demo_inputs()
+    results = []
+    for jobs in (1, 2, 3, 4):
+        # input b is t-distributed: in the correlated block it is drawn as a normal, said so
+        with pytest.warns(CorrelationWarning, match=r"b \(student_t\)"):
+            res = run_monte_carlo(
+                _demo_model, xs, correlation=_demo_correlation(), trials=M_CHUNKS, seed=4,
+                coverage_probability=p, jobs=jobs,
+            )  # fmt: skip
+        results.append(res)
+    assert all(r == results[0] for r in results[1:])  # every field, bit for bit
+    assert all(r.trials == M_CHUNKS and sum(r.histogram_counts) == M_CHUNKS for r in results)
+
+
+def test_summary_from_pieces_is_that_of_one_sorted_sample():
+    # With several threads the values are sorted in pieces and the intervals found from
+    # them; recomputed here from the same draws with one np.sort and the index rules of
+    # JCGM 101:2008, 7.7 (as in test_coverage_interval_index_rules), exactly.
+    xs = _demo_inputs()
+    res = run_monte_carlo(_demo_model, xs, trials=M_CHUNKS, seed=6, jobs=3)
+    y = np.sort(_demo_model(*draw_inputs(xs, None, M_CHUNKS, seed=6)))
+    p = res.coverage_probability
+    q = math.floor(p * M_CHUNKS + 0.5)
+    r = (M_CHUNKS - q + 1) // 2
+    assert res.symmetric_interval == (y[r - 1], y[r + q - 1])
+    j = int(np.argmin(y[q:] - y[: M_CHUNKS - q]))
+    assert res.shortest_interval == (y[j], y[j + q])
+    assert res.histogram_edges[0] == y[0] and res.histogram_edges[-1] == y[-1]
+    counts, _ = np.histogram(y, bins=np.array(res.histogram_edges))
+    assert res.histogram_counts == tuple(int(c) for c in counts)
+    # mean and sd: the same values summed in another order agree to rounding (exact analytic)
+    assert res.value == pytest.approx(float(np.mean(y)), rel=1e-13)
+    assert res.standard_uncertainty == pytest.approx(float(np.std(y, ddof=1)), rel=1e-12)
+
+
+@pytest.mark.parametrize("model", [np.round, lambda x: np.round(x) * 0.0, lambda x: x * 0.0])
+def test_ties_and_signed_zeros_give_the_same_result_for_any_number_of_threads(model):
+    # Model values with many ties at the interval ends, zeros of both signs (np.round of
+    # small negatives is −0.0) and a constant output: order statistics are values, so the
+    # result is that of one np.sort of the same values (JCGM 101:2008, 7.7 rules), with a
+    # zero reported as 0.0 whichever sign came first (this package's own rule).
+    xs = [InputQuantity.normal("x", 0.0, 1.0)]
+    runs = [run_monte_carlo(model, xs, trials=M_CHUNKS, seed=12, jobs=j) for j in (1, 2, 3, 4)]
+    assert all(r == runs[0] for r in runs[1:])
+    assert all(repr(r.interval) == repr(runs[0].interval) for r in runs)  # signs of zeros too
+    y = np.sort(model(draw_inputs(xs, None, M_CHUNKS, seed=12)[0]))
+    q = math.floor(runs[0].coverage_probability * M_CHUNKS + 0.5)
+    r = (M_CHUNKS - q + 1) // 2
+    assert runs[0].symmetric_interval == (y[r - 1], y[r + q - 1])
+    j = int(np.argmin(y[q:] - y[: M_CHUNKS - q]))
+    assert runs[0].shortest_interval == (y[j], y[j + q])
+    assert sum(runs[0].histogram_counts) == M_CHUNKS
+
+
+def test_stream_layout_is_as_documented():
+    # Module notes: chunk k of a run with seed s draws from PCG64 seeded by the k-th child
+    # of SeedSequence(s); each uncorrelated input draws the whole chunk in turn (this
+    # package's own layout, recomputed with numpy alone).
+    xs = [InputQuantity.normal("a", 1.0, 0.5), InputQuantity.rectangular("b", 0.0, 2.0)]
+    x = draw_inputs(xs, None, CHUNK_TRIALS + 5, seed=21)
+    children = np.random.SeedSequence(21).spawn(2)
+    for k, start in ((0, 0), (1, CHUNK_TRIALS)):
+        stream = np.random.Generator(np.random.PCG64(children[k]))
+        a = stream.standard_normal(CHUNK_TRIALS) * 0.5 + 1.0
+        b = (stream.random(CHUNK_TRIALS) - 0.5) * 4.0 + 0.0
+        n = min(CHUNK_TRIALS, x.shape[1] - start)
+        assert np.array_equal(x[0, start : start + n], a[:n])
+        assert np.array_equal(x[1, start : start + n], b[:n])
+
+
+def test_a_trial_depends_on_the_seed_and_its_index_only():
+    # Every chunk is drawn in full, so fewer trials are the first trials of more.
+    xs = _demo_inputs()
+    short = draw_inputs(xs, None, CHUNK_TRIALS + 3, seed=8)
+    long = draw_inputs(xs, None, 2 * CHUNK_TRIALS + 1, seed=8)
+    assert np.array_equal(short, long[:, : CHUNK_TRIALS + 3])
+    # a generator passed in seeds the root from four of its integers: same state, same draws
+    assert np.array_equal(
+        draw_inputs(xs, None, 100, np.random.default_rng(3)),
+        draw_inputs(xs, None, 100, np.random.default_rng(3)),
+    )
+
+
+def test_the_number_of_threads_never_changes_the_number_of_trials():
+    xs = _demo_inputs()
+    for jobs in (1, 2, 5):
+        calls: list[tuple[int, int]] = []
+        res = run_monte_carlo(_demo_model, xs, trials=M_CHUNKS, seed=1, jobs=jobs,
+                              progress=lambda d, t, calls=calls: calls.append((d, t)))  # fmt: skip
+        assert res.trials == M_CHUNKS and sum(res.histogram_counts) == M_CHUNKS
+        # one call per chunk, in order, from the calling thread
+        assert calls == [(CHUNK_TRIALS * k, M_CHUNKS) for k in (1, 2, 3)] + [(M_CHUNKS, M_CHUNKS)]
+
+
+def test_jobs_is_checked():
+    xs = [InputQuantity.normal("x", 0.0, 1.0)]
+    # this package's own wording (no external source)
+    for bad in (0, -2, 1.5, True, "2"):
+        with pytest.raises(InputError, match="jobs must be a whole number of at least 1, got"):
+            run_monte_carlo(lambda x: x, xs, trials=1000, seed=1, jobs=bad)
+    with pytest.raises(InputError, match="jobs must be a whole number of at least 1, got 0"):
+        run_adaptive(lambda x: x, xs, seed=1, jobs=0)
+    with pytest.raises(InputError, match="jobs must be a whole number of at least 1, got 0"):
+        simulate_budget(Budget.from_formula("y", "x", xs), trials=1000, jobs=0)
+    assert check_jobs(None) == available_cores() >= 1
+    assert check_jobs(10**6) == MAX_JOBS  # capped: more threads than that only cost memory
+    # more threads than chunks: as many as there are chunks work, the result is the same
+    assert run_monte_carlo(lambda x: x, xs, trials=1000, seed=1, jobs=MAX_JOBS) == run_monte_carlo(
+        lambda x: x, xs, trials=1000, seed=1
+    )
+
+
+def test_failures_in_threads_are_the_same_as_without_threads():
+    xs = [InputQuantity.normal("x", 0.0, 1.0)]
+
+    def fails_on_the_last_chunk(x):
+        if x.size < CHUNK_TRIALS:  # only the partial chunk at the end of the run
+            raise ValueError("not this one")
+        return x
+
+    messages = []
+    for jobs in (1, 3):
+        with pytest.raises(ModelError) as info:
+            run_monte_carlo(lambda x: np.where(x > 1.5, np.nan, x), xs, trials=M_CHUNKS,
+                            seed=2, jobs=jobs)  # fmt: skip
+        messages.append(str(info.value))
+        with pytest.raises(ModelError, match="failed on a chunk of trials: not this one"):
+            run_monte_carlo(fails_on_the_last_chunk, xs, trials=M_CHUNKS, seed=2, jobs=jobs)
+    assert messages[0] == messages[1]  # same count, same example (the first in trial order)
+    before = threading.active_count()
+
+    def stop(done, total):
+        if done > CHUNK_TRIALS:
+            raise KeyboardInterrupt
+
+    with pytest.raises(KeyboardInterrupt):
+        run_monte_carlo(_demo_model, _demo_inputs(), trials=M_CHUNKS, seed=2, jobs=3,
+                        progress=stop)  # fmt: skip
+    assert threading.active_count() == before  # no thread outlives the run
 
 
 # ---------------------------------------------------------------- adaptive procedure
@@ -375,6 +520,33 @@ def test_adaptive_run_stops_with_stable_u():
         assert "stabilised" in res.note
         rounded.add(round(res.standard_uncertainty, 2))
     assert rounded == {0.96}
+
+
+def test_adaptive_run_is_the_same_for_any_number_of_threads():
+    # With threads, chunks are drawn ahead of the batch being checked and the surplus is
+    # dropped; the batches are those of a fixed run (module notes; this package's design).
+    xs = [InputQuantity.normal("a", 5.0, 0.6), _rect("b", 0.75)]
+    runs = [run_adaptive(_sum, xs, seed=2, jobs=jobs) for jobs in (1, 2, 3, 4)]
+    assert all(r == runs[0] for r in runs[1:])
+    res = runs[0]
+    assert res.converged and res.trials == res.batches * 10_000
+    fixed = run_monte_carlo(_sum, xs, trials=res.trials, seed=2, jobs=2)
+    assert (fixed.value, fixed.standard_uncertainty) == (res.value, res.standard_uncertainty)
+    assert fixed.symmetric_interval == res.symmetric_interval
+    assert fixed.histogram_counts == res.histogram_counts
+    # a model failing in a later batch is named with its batch and the count of that batch,
+    # whatever the threads: NaN above the largest value of batch 1 (from the same draws)
+    y = _sum(*draw_inputs(xs, None, 20_000, seed=2))
+    top = float(y[:10_000].max())
+    expected = int(np.sum(y[10_000:] > top))
+    assert expected >= 1
+    messages = set()
+    for jobs in (1, 3):
+        with pytest.raises(ModelError, match=rf"in {expected} of 10000 trials, e\.g\. a=") as info:
+            run_adaptive(lambda a, b: np.where(a + b > top, np.nan, a + b), xs, seed=2,
+                         jobs=jobs, max_trials=30_000)  # fmt: skip
+        messages.add(str(info.value))
+    assert len(messages) == 1 and messages.pop().endswith("(batch 2)")
 
 
 def test_adaptive_run_reports_non_convergence():
@@ -431,8 +603,8 @@ def test_correlated_non_normal_input_warns_and_invalid_matrices_raise():
 # ---------------------------------------------------------------- models and checks
 def test_non_finite_model_values_raise_with_count_and_example():
     xs = [InputQuantity.normal("x", 0.0, 1.0)]
-    # Independent count from the same draws: the first chunk of each child stream.
-    expected = int(np.sum(draw_inputs(xs, None, 20_000, np.random.default_rng(21))[0] > 1.5))
+    # Independent count from the same draws (draw_inputs with the run's seed).
+    expected = int(np.sum(draw_inputs(xs, None, 20_000, seed=21)[0] > 1.5))
     with pytest.raises(ModelError, match=f"in {expected} of 20000 trials, e.g. x="):
         run_monte_carlo(lambda x: np.where(x > 1.5, np.nan, x), xs, trials=20_000, seed=21)
     with pytest.raises(ModelError, match="non-finite"):
@@ -458,7 +630,8 @@ def test_scalar_model_is_broadcast_and_result_is_frozen():
     [
         ({"trials": 0}, "trials must be at least 1, got 0"),
         ({"coverage_probability": 1.5}, "coverage_probability must lie strictly .* got 1.5"),
-        ({"chunk_size": 0}, "chunk_size must be at least 1, got 0"),
+        ({"jobs": 0}, "jobs must be a whole number of at least 1, got 0"),
+        ({"progress": 3}, "progress must be a callable"),
         ({"histogram_bins": 2.5}, "histogram_bins must be an integer, got 2.5"),
         ({"trials": 10}, "trials = 10 is too few"),
         ({"seed": 1, "rng": np.random.default_rng(1)}, "rng or seed"),

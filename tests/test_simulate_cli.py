@@ -160,3 +160,26 @@ def test_a_run_without_seed_prints_the_seed_it_drew_and_can_be_repeated(r4_file,
     again = capsys.readouterr().out
     first = [line for line in out.splitlines() if "drawn at random" not in line]
     assert first == again.splitlines()
+
+
+def test_jobs_zero_is_refused_with_one_line(capsys, r4_file):
+    # refused before the file is read: the line names the option, not the file (this
+    # package's own wording, the same as `viscometry audit --jobs 0`)
+    for bad in ("0", "-2"):
+        code = main(["simulate", str(r4_file), "--trials", "1000", "--jobs", bad])
+        out, err = capsys.readouterr()
+        assert code == 2 and out == ""
+        assert err == f"viscometry: error: --jobs must be a whole number of at least 1, got {bad}\n"
+    code = main(["simulate", str(r4_file), "--jobs", "two"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == "" and "argument --jobs: must be a whole number" in err
+
+
+def test_the_number_of_threads_changes_nothing_in_the_output(capsys, r4_file):
+    # 2 × 65 536 + 5 trials: two whole chunks and a partial one (viscometry.gum.montecarlo)
+    argv = ["simulate", str(r4_file), "--trials", "131077", "--seed", "3", "--json"]
+    one = _json(capsys, [*argv, "--jobs", "1"])
+    assert one["trials"] == 131_077
+    assert _json(capsys, [*argv, "--jobs", "3"]) == one
+    assert _json(capsys, argv) == one  # default: every core
+    assert _json(capsys, [*argv, "--jobs", "1000"]) == one  # capped at 64 threads

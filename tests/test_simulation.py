@@ -28,7 +28,7 @@ from scipy import stats
 
 from viscometry.errors import InputError, ModelError
 from viscometry.gum import Budget, Correlation, InputQuantity
-from viscometry.gum.montecarlo import numerical_tolerance
+from viscometry.gum.montecarlo import CHUNK_TRIALS, MAX_TRIALS, numerical_tolerance
 from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 from viscometry.io.json_out import dumps
 from viscometry.text import simulation_lines, validation_statement
@@ -245,11 +245,30 @@ def test_adaptive_run():
 
 
 def test_progress_callback_counts_trials():
-    calls: list[tuple[int, int]] = []
-    simulate_budget(
-        _r4_budget(SMALL), trials=150_000, seed=35, progress=lambda d, t: calls.append((d, t))
-    )
-    assert calls == [(100_000, 150_000), (150_000, 150_000)]  # chunks of 10⁵ trials
+    # one call per chunk of CHUNK_TRIALS = 65 536 trials, in order, whatever the threads
+    for jobs in (1, 2):
+        calls: list[tuple[int, int]] = []
+        simulate_budget(_r4_budget(SMALL), trials=150_000, seed=35, jobs=jobs,
+                        progress=lambda d, t, calls=calls: calls.append((d, t)))  # fmt: skip
+        assert calls == [(65_536, 150_000), (131_072, 150_000), (150_000, 150_000)]
+    calls = []
+    sim = simulate_budget(_r4_budget(LARGE), adaptive=True, significant_digits=1, seed=34,
+                          jobs=2, progress=lambda d, t: calls.append((d, t)))  # fmt: skip
+    assert calls[0] == (CHUNK_TRIALS, MAX_TRIALS) and calls[-1][0] >= sim.mc.trials
+
+
+def test_a_seeded_simulation_is_the_same_for_any_number_of_threads():
+    # This package's own design (module notes of viscometry.gum.montecarlo): chunk k's
+    # draws depend only on the seed and k. Three chunks and a partial one.
+    b = _r4_budget(LARGE)
+    trials = 3 * CHUNK_TRIALS + 17
+    fixed = [simulate_budget(b, trials=trials, seed=7, jobs=jobs) for jobs in (1, 2, 3, 4)]
+    assert all(s.mc == fixed[0].mc and s.to_dict() == fixed[0].to_dict() for s in fixed)
+    assert fixed[0].mc.trials == trials
+    assert simulate_budget(b, trials=trials, seed=7).mc == fixed[0].mc  # the default: all cores
+    ada = [simulate_budget(b, adaptive=True, significant_digits=1, seed=8, jobs=jobs)
+           for jobs in (1, 2, 3)]  # fmt: skip
+    assert all(s.mc == ada[0].mc for s in ada) and ada[0].mc.converged
 
 
 def test_invalid_arguments():

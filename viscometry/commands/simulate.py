@@ -95,6 +95,15 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "(uncorrelated inputs only) instead of the first-order one",
     )
     parser.add_argument(
+        "--jobs",
+        type=whole_number,
+        default=None,
+        metavar="N",
+        help="threads that draw and evaluate trials at the same time (default: every core "
+        "this process may use, at most 64; 1: no threads); a seeded result is the same for "
+        "any N",
+    )
+    parser.add_argument(
         "--json",
         action="store_true",
         help="print one JSON object (trials, seed, value, standard_uncertainty, "
@@ -111,10 +120,12 @@ def run(args: argparse.Namespace) -> int:
     """
     from viscometry.commands._common import located, print_json, provenance_lines
     from viscometry.errors import ViscometryError
+    from viscometry.gum.montecarlo import check_jobs
     from viscometry.gum.simulation import simulate_budget
     from viscometry.io.reader import load_budget
     from viscometry.text import simulation_lines
 
+    jobs = check_jobs(args.jobs, "--jobs")  # before the file: it is not about the file
     bf = load_budget(args.file)
     # Without --seed, a seed is drawn and shown, so that every run can be repeated exactly.
     seed = args.seed if args.seed is not None else secrets.randbits(32)
@@ -122,7 +133,7 @@ def run(args: argparse.Namespace) -> int:
         sim = simulate_budget(
             bf.budget, trials=args.trials, adaptive=args.adaptive,
             significant_digits=args.digits, seed=seed, interval=args.interval,
-            higher_order_reference=args.higher_order,
+            higher_order_reference=args.higher_order, jobs=jobs,
         )  # fmt: skip
     except ViscometryError as exc:
         raise located(bf, exc) from exc

@@ -18,26 +18,42 @@ The module works on SI floats only: every :class:`~viscometry.gum.inputs.InputQu
 receives must already carry its estimate and standard uncertainty in units consistent with
 the model; ``InputQuantity.unit`` is ignored here.
 
-Reproducibility
----------------
-All randomness comes from one :class:`numpy.random.Generator`. At the start of a run the
-generator is asked for four 63-bit integers, which seed one independent child stream (PCG64, spawned
-from a :class:`numpy.random.SeedSequence`) per input quantity plus one for the block of
-correlated inputs. Each child stream is read sequentially, trial after trial, so
+Reproducibility and parallel runs
+---------------------------------
+The trials are drawn in chunks of :data:`CHUNK_TRIALS` (65 536) trials. Chunk k (trials
+k·65 536 to (k + 1)·65 536 − 1, counted from 0) is drawn from its own PCG64 stream, seeded
+with the k-th child of the run's root :class:`numpy.random.SeedSequence`, i.e. the k-th element of
+``SeedSequence(seed).spawn(n)`` for any n > k; a generator passed in instead of a seed is
+asked for four 63-bit integers, which seed the root. Within a chunk, each uncorrelated input
+in turn draws its values for the whole chunk (an input with zero uncertainty draws nothing),
+then the block of correlated inputs draws its standard normal deviates. Every chunk is drawn
+in full, the last one of a run too, so the values of trial i depend only on the seed and i:
 
-* the same generator state (or the same ``seed``) gives bit-identical draws and results;
-* the results do **not** depend on ``chunk_size``: drawing 10⁶ trials in chunks of 10³ or in
-  one piece reads the same numbers from every stream (statistics over all trials are also
-  accumulated in fixed blocks independent of the chunking).
+* the same seed (or generator state) gives bit-identical draws and results;
+* the results do **not** depend on the number of worker threads ``jobs``: each chunk's model
+  values go to their own place among the M values, and every summary is formed over all M
+  values in trial order (statistics in fixed blocks);
+* a run of M trials uses the first M trials of any longer run with the same seed; an adaptive
+  run that stops after h batches of M trials (7.9) has the values of a fixed run of h·M trials.
+
+With ``jobs`` > 1, the chunks are drawn and evaluated by a pool of that many threads: NumPy's
+generators and ufuncs release the global interpreter lock on arrays of this size. The model
+function is then called from several threads at once and must be thread-safe (a function of
+its arguments only, as every measurement model here is).
 """
 
 from __future__ import annotations
 
+import itertools
 import math
+import os
+import threading
 import warnings
-from collections.abc import Callable, Sequence
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
-from typing import Literal
+from typing import Literal, NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -62,14 +78,21 @@ __all__ = [
     "run_adaptive",
     "validate_against",
     "MAX_TRIALS",
+    "MAX_JOBS",
+    "CHUNK_TRIALS",
+    "ProgressCallback",
+    "available_cores",
+    "check_jobs",
     "check_trials",
 ]
 
 #: Most Monte Carlo trials M of one run, fixed or adaptive [1]. A run keeps every model value
-#: in memory to find the coverage intervals (8 bytes each, 80 MB at the limit; an adaptive run
-#: briefly twice that), so the peak memory of a run at the limit stays near 0.3 GB. Larger M is
-#: refused with an :class:`~viscometry.errors.InputError` before anything is allocated, by the
-#: library, the command line and the widgets alike.
+#: in memory to find the coverage intervals (8 bytes each, 80 MB at the limit) and sorts them
+#: in place; besides, each thread holds one chunk of draws (0.5 MB per input) and the tails of
+#: the intervals are copied (at most 1/8 of the values), so a run at the limit needs about
+#: 0.1 GB beyond the program itself. Larger M is refused with an
+#: :class:`~viscometry.errors.InputError` before anything is allocated, by the library, the
+#: command line and the widgets alike.
 MAX_TRIALS = 10**7
 #: Most histogram bins of a result [1].
 MAX_HISTOGRAM_BINS = 100_000
@@ -86,12 +109,22 @@ _BOUNDED_DIVISOR = {
     "arcsine": math.sqrt(2.0),
 }
 
-#: Block length for the mean/standard-deviation pass over all model values; fixed so that
-#: the statistics do not depend on the chunking of the draws.
-_STATS_BLOCK = 1 << 18
+#: Trials per chunk of the stream layout [1] (see the module notes): fixed, so that seeded
+#: results depend neither on the number of threads nor on the number of trials after a given
+#: one. A worker holds one chunk of draws at a time (8 bytes per trial and input: 0.5 MB per
+#: input) plus the model's temporaries.
+CHUNK_TRIALS = 1 << 16
+#: Most worker threads of one run [1]; a larger number is capped. More threads than cores
+#: only add memory (one chunk of draws and the model's temporaries each), never speed.
+MAX_JOBS = 64
 
-#: Sub-chunk used inside an adaptive batch (a batch is usually only 10⁴ trials).
-_ADAPTIVE_CHUNK = 100_000
+#: Block length for the mean/standard-deviation pass and the search for the shortest
+#: interval over all model values; fixed so that the statistics do not depend on the chunking
+#: of the draws or on the number of threads.
+_STATS_BLOCK = CHUNK_TRIALS
+
+#: ``progress(trials_done, trials_total)``, called in the calling thread after every chunk.
+ProgressCallback = Callable[[int, int], object]
 
 
 # ---------------------------------------------------------------------------- results
@@ -233,6 +266,65 @@ def check_trials(value: object, field: str = "trials") -> int:
     return m
 
 
+def available_cores() -> int:
+    """The number of cores this process may run on, at most :data:`MAX_JOBS`.
+
+    Returns
+    -------
+    int
+        The CPUs in the process's affinity mask where the system tells them (Linux), else
+        :func:`os.cpu_count`; at least 1 [1].
+
+    Examples
+    --------
+    >>> 1 <= available_cores() <= MAX_JOBS
+    True
+    """
+    try:
+        cores = len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):  # pragma: no cover - not on Linux
+        cores = os.cpu_count() or 1
+    return max(1, min(cores, MAX_JOBS))
+
+
+def check_jobs(value: object, field: str = "jobs") -> int:
+    """A number of worker threads: ``None`` means every available core; at most :data:`MAX_JOBS`.
+
+    Parameters
+    ----------
+    value : int or None
+        Threads that draw and evaluate chunks of trials at the same time [1]; ``None`` for
+        :func:`available_cores`. The number never changes a result, only how fast it comes.
+    field : str
+        What to call it in the message (``"--jobs"`` on the command line).
+
+    Returns
+    -------
+    int
+        1 to :data:`MAX_JOBS` (a larger number is capped); 1 means no threads (everything in
+        the calling thread).
+
+    Raises
+    ------
+    InputError
+        Not a whole number, or below 1.
+
+    Examples
+    --------
+    >>> check_jobs(2), check_jobs(1000)
+    (2, 64)
+    >>> check_jobs(0)
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.InputError: jobs must be a whole number of at least 1, got 0
+    """
+    if value is None:
+        return available_cores()
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
+        raise InputError(f"{field} must be a whole number of at least 1, got {_shown(value)}")
+    return min(int(value), MAX_JOBS)
+
+
 def _check_probability(value: object, field: str = "coverage_probability") -> float:
     try:
         p = float(value)  # type: ignore[arg-type]
@@ -247,6 +339,13 @@ def _check_kind(kind: object, field: str = "kind") -> IntervalKind:
     if kind not in _INTERVAL_KINDS:
         raise InputError(f"{field} must be 'symmetric' or 'shortest', got {kind!r}")
     return kind  # type: ignore[return-value]
+
+
+def _check_progress(progress: object) -> None:
+    if progress is not None and not callable(progress):
+        raise InputError(
+            f"progress must be a callable(trials_done, trials_total), got {_shown(progress)}"
+        )
 
 
 def _check_inputs(inputs: Sequence[InputQuantity]) -> tuple[InputQuantity, ...]:
@@ -307,25 +406,35 @@ def _half_width(q: InputQuantity) -> float:
 
 
 # ---------------------------------------------------------------------------- sampling
+def _make_root(
+    rng: np.random.Generator | None, seed: int | None
+) -> tuple[np.random.SeedSequence, int | None]:
+    """The root seed sequence of a run and the seed to record (see the module notes)."""
+    if rng is not None:
+        if seed is not None:
+            raise InputError(f"give rng or seed, not both; got seed = {seed!r} with an rng")
+        if not isinstance(rng, np.random.Generator):
+            raise InputError(f"rng must be a numpy.random.Generator, got {_shown(rng)}")
+        entropy = rng.integers(0, 2**63, size=4, dtype=np.int64)
+        return np.random.SeedSequence([int(e) for e in entropy]), None
+    if seed is not None:
+        seed = _check_int(seed, "seed", minimum=0)
+    return np.random.SeedSequence(seed), seed
+
+
 class _Sampler:
-    """Draws successive trials of all inputs from per-input child streams (see module notes)."""
+    """Draws the chunks of trials of all inputs, each chunk from its own stream (module notes)."""
 
     def __init__(
         self,
         inputs: tuple[InputQuantity, ...],
         correlation: np.ndarray | None,
-        rng: np.random.Generator,
+        root: np.random.SeedSequence,
         stacklevel: int = 3,
     ) -> None:
-        if not isinstance(rng, np.random.Generator):
-            raise InputError(f"rng must be a numpy.random.Generator, got {rng!r}")
         self.inputs = inputs
+        self._root = root
         n = len(inputs)
-        entropy = rng.integers(0, 2**63, size=4, dtype=np.int64)
-        children = np.random.SeedSequence([int(e) for e in entropy]).spawn(n + 1)
-        self._block_stream = np.random.Generator(np.random.PCG64(children[0]))
-        self._streams = [np.random.Generator(np.random.PCG64(c)) for c in children[1:]]
-
         self._joint: list[int] = []
         self._factor: np.ndarray | None = None
         if correlation is not None:
@@ -354,21 +463,32 @@ class _Sampler:
                         stacklevel=stacklevel,
                     )
 
-    def draw(self, size: int) -> np.ndarray:
-        out = np.empty((len(self.inputs), size), dtype=np.float64)
+    def stream(self, k: int) -> np.random.Generator:
+        """The generator of chunk ``k``: the k-th child of the root seed sequence."""
+        root = self._root
+        child = np.random.SeedSequence(
+            root.entropy, spawn_key=(*root.spawn_key, k), pool_size=root.pool_size
+        )
+        return np.random.Generator(np.random.PCG64(child))
+
+    def draw_chunk(self, k: int, out: np.ndarray | None = None) -> np.ndarray:
+        """All :data:`CHUNK_TRIALS` trials of chunk ``k``, shape (n, CHUNK_TRIALS), in ``out``
+        if given."""
+        stream = self.stream(k)
+        if out is None:
+            out = np.empty((len(self.inputs), CHUNK_TRIALS), dtype=np.float64)
         joint = set(self._joint)
         for i, q in enumerate(self.inputs):
             if i not in joint:
-                _draw_one(q, self._streams[i], out[i])
+                _draw_one(q, stream, out[i])
         if self._factor is not None:
-            k = len(self._joint)
-            z = self._block_stream.standard_normal((size, k))
+            width = len(self._joint)
+            z = stream.standard_normal((CHUNK_TRIALS, width))
             for row, i in enumerate(self._joint):
-                # Explicit elementwise sum in a fixed order (not BLAS), so every trial's
-                # value is independent of how many trials share the chunk.
+                # Explicit elementwise sum in a fixed order (not BLAS): exact and reproducible.
                 acc = out[i]
                 np.multiply(z[:, 0], self._factor[row, 0], out=acc)
-                for col in range(1, k):
+                for col in range(1, width):
                     if self._factor[row, col] != 0.0:
                         acc += self._factor[row, col] * z[:, col]
                 q = self.inputs[i]
@@ -420,7 +540,9 @@ def draw_inputs(
     inputs: Sequence[InputQuantity],
     correlation: ArrayLike | None,
     size: int,
-    rng: np.random.Generator,
+    rng: np.random.Generator | None = None,
+    *,
+    seed: int | None = None,
 ) -> np.ndarray:
     """Draw ``size`` values of every input quantity from its probability distribution.
 
@@ -432,9 +554,12 @@ def draw_inputs(
     correlation : (n, n) array_like or None
         Correlation matrix of the inputs [1], or ``None`` for independent inputs.
     size : int
-        Number of draws M per input [1].
-    rng : numpy.random.Generator
+        Number of draws M per input, 1 to :data:`MAX_TRIALS` [1].
+    rng : numpy.random.Generator, optional
         Source of randomness; the same generator state gives bit-identical draws.
+    seed : int, optional
+        Seed of the draws instead of ``rng``: the draws of the first ``size`` trials of a
+        run with this seed (module notes).
 
     Returns
     -------
@@ -444,8 +569,9 @@ def draw_inputs(
     Raises
     ------
     InputError
-        Empty or malformed ``inputs``, ``size`` < 1, a correlation matrix of the wrong shape,
-        or ``rng`` not a Generator.
+        Empty or malformed ``inputs``, ``size`` < 1 or above :data:`MAX_TRIALS`, a
+        correlation matrix of the wrong shape, ``rng`` not a Generator, both ``rng`` and
+        ``seed``.
     CorrelationError
         A correlation matrix that is asymmetric, has |r| > 1, a diagonal other than 1, or is
         not positive semidefinite.
@@ -479,14 +605,20 @@ def draw_inputs(
     --------
     >>> from viscometry.gum.inputs import InputQuantity
     >>> x = draw_inputs([InputQuantity.normal("a", 1.0, 0.1),
-    ...                  InputQuantity.rectangular("b", 0.0, 2.0)], None, 5, np.random.default_rng(1))
+    ...                  InputQuantity.rectangular("b", 0.0, 2.0)], None, 5, seed=1)
     >>> x.shape, bool(np.all(np.abs(x[1]) <= 2.0))
     ((2, 5), True)
     """
     items = _check_inputs(inputs)
     size = check_trials(size, "size")
     r = _check_correlation(correlation, items)
-    return _Sampler(items, r, rng).draw(size)
+    root, _ = _make_root(rng, seed)
+    sampler = _Sampler(items, r, root)
+    out = np.empty((len(items), size), dtype=np.float64)
+    for k, start in enumerate(range(0, size, CHUNK_TRIALS)):
+        stop = min(start + CHUNK_TRIALS, size)
+        out[:, start:stop] = sampler.draw_chunk(k)[:, : stop - start]
+    return out
 
 
 # ---------------------------------------------------------------------------- summaries
@@ -559,14 +691,35 @@ def _coverage_indices(m: int, p: float) -> tuple[int, int]:
     return q, r
 
 
+def _plain(value: float) -> float:
+    """``value`` as a float, −0.0 as 0.0: which zero comes first among equal values depends on
+    how they were sorted, and a result must not."""
+    return float(value) + 0.0
+
+
+def _interval_from_tails(
+    lower: np.ndarray, upper: np.ndarray, r: int, kind: IntervalKind
+) -> tuple[float, float]:
+    """The interval from the sorted tails ``lower`` = y_(1), ..., y_(M−q) and ``upper`` =
+    y_(q+1), ..., y_(M) of the sorted values (JCGM 101:2008, 7.7; r is 1-based)."""
+    if kind == "symmetric":
+        return _plain(lower[r - 1]), _plain(upper[r - 1])
+    # argmin of the widths y_(j+q) − y_(j), in blocks (no copy of all M values); the first
+    # smallest width wins, as np.argmin over all of them would pick it.
+    best, best_width = 0, math.inf
+    with np.errstate(over="ignore"):  # ±inf widths of huge values compare as they should
+        for start in range(0, lower.size, _STATS_BLOCK):
+            widths = upper[start : start + _STATS_BLOCK] - lower[start : start + _STATS_BLOCK]
+            j = int(np.argmin(widths))
+            if widths[j] < best_width:
+                best, best_width = start + j, float(widths[j])
+    return _plain(lower[best]), _plain(upper[best])
+
+
 def _interval_sorted(y: np.ndarray, p: float, kind: IntervalKind) -> tuple[float, float]:
     m = y.size
     q, r = _coverage_indices(m, p)
-    if kind == "symmetric":
-        return float(y[r - 1]), float(y[r + q - 1])
-    widths = y[q:] - y[: m - q]
-    j = int(np.argmin(widths))
-    return float(y[j]), float(y[j + q])
+    return _interval_from_tails(y[: m - q], y[q:], r, kind)
 
 
 def coverage_interval(
@@ -628,17 +781,24 @@ def coverage_interval(
     return _interval_sorted(y, p, kind)
 
 
-def _mean_and_m2(y: np.ndarray) -> tuple[float, float]:
-    """Mean and sum of squared deviations, in fixed blocks combined pairwise (Chan et al.)."""
-    count = 0
-    mean = 0.0
-    m2 = 0.0
-    for start in range(0, y.size, _STATS_BLOCK):
-        block = y[start : start + _STATS_BLOCK]
-        nb = block.size
-        mb = float(block.mean())
-        d = block - mb
-        m2b = float(np.dot(d, d))
+#: Count, mean and sum of squared deviations of one block of model values.
+_Stats = tuple[int, float, float]
+
+
+def _block_stats(block: np.ndarray, work: np.ndarray) -> _Stats:
+    """Count, mean and sum of squared deviations of ``block``, in the scratch array ``work``
+    (pairwise sums, no BLAS, no new array)."""
+    mb = float(block.mean())
+    d = work[: block.size]
+    np.subtract(block, mb, out=d)
+    np.multiply(d, d, out=d)
+    return block.size, mb, float(d.sum())
+
+
+def _combine(stats: Iterable[_Stats]) -> tuple[float, float]:
+    """Mean and sum of squared deviations of blocks combined in order (Chan et al.)."""
+    count, mean, m2 = 0, 0.0, 0.0
+    for nb, mb, m2b in stats:
         total = count + nb
         delta = mb - mean
         mean += delta * nb / total
@@ -647,8 +807,25 @@ def _mean_and_m2(y: np.ndarray) -> tuple[float, float]:
     return mean, m2
 
 
-def _mean_and_sd(y: np.ndarray) -> tuple[float, float]:
-    """Mean and standard deviation of the model values.
+def _mean_and_m2(y: np.ndarray, shift: int = 0) -> tuple[float, float]:
+    """Mean and sum of squared deviations of y·2^−shift over fixed blocks of
+    :data:`_STATS_BLOCK` values (the chunks of a run), combined in order."""
+    work = np.empty(min(y.size, _STATS_BLOCK))
+    scaled = np.empty_like(work) if shift else work
+
+    def blocks() -> Iterator[_Stats]:
+        for start in range(0, y.size, _STATS_BLOCK):
+            block = y[start : start + _STATS_BLOCK]
+            if shift:
+                block = np.ldexp(block, -shift, out=scaled[: block.size])
+            yield _block_stats(block, work)
+
+    return _combine(blocks())
+
+
+def _mean_and_sd(y: np.ndarray, stats: Sequence[_Stats] | None = None) -> tuple[float, float]:
+    """Mean and standard deviation of the model values (from the statistics of their blocks
+    when a run has them already).
 
     A spread whose squares under- or overflow (values near 1e-200 or 1e200) would come out
     0 or ∞; then the values are scaled by a power of two first (exact) and the results
@@ -656,13 +833,13 @@ def _mean_and_sd(y: np.ndarray) -> tuple[float, float]:
     path, so seeded results keep every digit.
     """
     with np.errstate(over="ignore", under="ignore"):  # detected below, not warned about
-        mean, m2 = _mean_and_m2(y)
+        mean, m2 = _combine(stats) if stats is not None else _mean_and_m2(y)
     sd = math.sqrt(m2 / (y.size - 1)) if y.size > 1 else 0.0
     if y.size > 1 and not (SMALLEST_NORMAL <= sd < math.inf) and y.min() != y.max():
-        top = float(np.max(np.abs(y)))
+        top = max(abs(float(y.min())), abs(float(y.max())))
         if math.isfinite(top):
             shift = math.frexp(top)[1]
-            mean_s, m2_s = _mean_and_m2(np.ldexp(y, -shift))
+            mean_s, m2_s = _mean_and_m2(y, shift)
             mean = math.ldexp(mean_s, shift)
             try:
                 sd = math.ldexp(math.sqrt(m2_s / (y.size - 1)), shift)
@@ -682,18 +859,24 @@ def _summarise(
     converged: bool,
     batches: int | None,
     note: str,
+    stats: Sequence[_Stats] | None = None,
+    jobs: int = 1,
 ) -> MonteCarloResult:
-    """Summarise the model values ``y`` (sorted in place: the caller's order is lost)."""
-    mean, sd = _mean_and_sd(y)
-    y.sort()
-    symmetric = _interval_sorted(y, p, "symmetric")
-    shortest = _interval_sorted(y, p, "shortest")
-    lo, hi = float(y[0]), float(y[-1])
+    """Summarise the model values ``y`` (sorted in place, in pieces: the caller's order is
+    lost); ``stats`` are those of its blocks of :data:`_STATS_BLOCK` values, if known."""
+    mean, sd = _mean_and_sd(y, stats)
+    m = y.size
+    q, r = _coverage_indices(m, p)
+    order = _Ordered(y, m - q, jobs)
+    lower, upper = order.tails(q)
+    symmetric = _interval_from_tails(lower, upper, r, "symmetric")
+    shortest = _interval_from_tails(lower, upper, r, "shortest")
+    lo, hi = order.extremes()
     if lo == hi:  # a constant output: unit-wide bins around it, as numpy.histogram does
         lo, hi = lo - 0.5, hi + 0.5
     edges = np.linspace(lo, hi, bins + 1)
-    idx = np.searchsorted(y, edges, side="left")
-    idx[-1] = y.size  # the last bin is closed
+    idx = order.count_below(edges)
+    idx[-1] = m  # the last bin is closed
     counts = np.diff(idx)
     return MonteCarloResult(
         trials=trials,
@@ -713,64 +896,192 @@ def _summarise(
     )
 
 
+_MAGNITUDE = (1 << 63) - 1
+
+
+def _key(value: float) -> int:
+    """An integer that orders floats as their values do (−0.0 just below 0.0)."""
+    bits = int(np.float64(value).view(np.int64))
+    return bits if bits >= 0 else -(bits & _MAGNITUDE) - 1
+
+
+def _from_key(key: int) -> float:
+    """The float of an integer from :func:`_key`."""
+    bits = key if key >= 0 else (-key - 1) | (1 << 63)
+    return float(np.uint64(bits).view(np.float64))
+
+
+class _Ordered:
+    """The order statistics of model values sorted in place in pieces, one per thread.
+
+    With ``jobs`` > 1 (and tails of at most 1/16 of the values, so that copying them costs
+    little memory), ``y`` is cut into ``jobs`` pieces sorted at the same time; a value of a
+    given rank is then found by bisection over the floats, counting the values below it in
+    every piece, and the two tails of the coverage intervals are gathered and sorted. Every
+    figure is an order statistic of all the values, so it is the same for any ``jobs``.
+    """
+
+    def __init__(self, y: np.ndarray, tail: int, jobs: int) -> None:
+        m = y.size
+        n = jobs if jobs > 1 and m >= 2 * CHUNK_TRIALS and 16 * tail <= m else 1
+        bounds = [m * i // n for i in range(n + 1)]
+        self.pieces = [y[a:b] for a, b in itertools.pairwise(bounds)]
+        self.m = m
+        if n == 1:
+            y.sort()
+        else:
+            with ThreadPoolExecutor(max_workers=n, thread_name_prefix="mc-sort") as pool:
+                list(pool.map(np.ndarray.sort, self.pieces))
+
+    def extremes(self) -> tuple[float, float]:
+        """The smallest and the largest value."""
+        return (_plain(min(p[0] for p in self.pieces)), _plain(max(p[-1] for p in self.pieces)))
+
+    def count_below(self, values: np.ndarray) -> np.ndarray:
+        """How many model values are below each of ``values``."""
+        return sum(np.searchsorted(p, values, side="left") for p in self.pieces)  # type: ignore[return-value]
+
+    def rank(self, i: int) -> float:
+        """The value y_(i+1) (0-based rank i) of all the sorted values."""
+        lo, hi = self.extremes()
+        low, high = _key(lo), _key(hi)
+        while low < high:  # the smallest float with at least i + 1 values at or below it
+            mid = (low + high) // 2
+            v = _from_key(mid)
+            if sum(int(np.searchsorted(p, v, side="right")) for p in self.pieces) > i:
+                high = mid
+            else:
+                low = mid + 1
+        return _from_key(low)
+
+    def tails(self, q: int) -> tuple[np.ndarray, np.ndarray]:
+        """y_(1), ..., y_(M−q) and y_(q+1), ..., y_(M), sorted."""
+        t = self.m - q
+        if len(self.pieces) == 1:
+            y = self.pieces[0]
+            return y[:t], y[q:]
+        v = self.rank(t - 1)
+        below = [p[: np.searchsorted(p, v, side="left")] for p in self.pieces]
+        lower = np.empty(t)
+        n = sum(b.size for b in below)
+        np.concatenate(below, out=lower[:n])
+        lower[:n].sort()
+        lower[n:] = v  # the values equal to y_(M−q)
+        w = self.rank(q)
+        above = [p[np.searchsorted(p, w, side="right") :] for p in self.pieces]
+        upper = np.empty(t)
+        n = sum(a.size for a in above)
+        np.concatenate(above, out=upper[t - n :])
+        upper[t - n :].sort()
+        upper[: t - n] = w  # the values equal to y_(q+1)
+        return lower, upper
+
+
 # ---------------------------------------------------------------------------- running
-def _make_rng(
-    rng: np.random.Generator | None, seed: int | None
-) -> tuple[np.random.Generator, int | None]:
-    if rng is not None:
-        if seed is not None:
-            raise InputError(f"give rng or seed, not both; got seed = {seed!r} with an rng")
-        if not isinstance(rng, np.random.Generator):
-            raise InputError(f"rng must be a numpy.random.Generator, got {rng!r}")
-        return rng, None
-    if seed is not None:
-        seed = _check_int(seed, "seed", minimum=0)
-    return np.random.default_rng(seed), seed
+class _ChunkOutcome(NamedTuple):
+    """What the work on one chunk found."""
+
+    bad: int  #: number of non-finite model values
+    example: str  #: one of them with its inputs, or ""
+    stats: _Stats  #: of the chunk's model values (meaningless when ``bad``)
+
+
+def _chunk_task(
+    func: Callable[..., ArrayLike], sampler: _Sampler, out: np.ndarray
+) -> Callable[[int], _ChunkOutcome]:
+    """The work on chunk k: draw it, evaluate the model, store its values in ``out``; each
+    thread reuses its own scratch arrays from chunk to chunk."""
+    m = out.size
+    scratch = threading.local()
+
+    def task(k: int) -> _ChunkOutcome:
+        if not hasattr(scratch, "draws"):
+            scratch.draws = np.empty((len(sampler.inputs), CHUNK_TRIALS))
+            scratch.work = np.empty(CHUNK_TRIALS)
+        start = k * CHUNK_TRIALS
+        size = min(CHUNK_TRIALS, m - start)
+        x = sampler.draw_chunk(k, scratch.draws)[:, :size]
+        chunk = out[start : start + size]
+        with np.errstate(all="ignore"):
+            chunk[...] = _model_values(func, x, size)
+            finite = np.isfinite(chunk)
+            if finite.all():
+                return _ChunkOutcome(0, "", _block_stats(chunk, scratch.work))
+        j = int(np.argmin(finite))
+        example = (
+            ", ".join(f"{q.name}={x[i, j]!r}" for i, q in enumerate(sampler.inputs))
+            + f" gives {chunk[j]!r}"
+        )
+        return _ChunkOutcome(int(size - np.count_nonzero(finite)), example, (0, 0.0, 0.0))
+
+    return task
+
+
+def _model_values(func: Callable[..., ArrayLike], x: np.ndarray, size: int) -> np.ndarray:
+    """``func(*x)`` as ``size`` real numbers, or a :class:`ModelError`."""
+    try:
+        y = np.asarray(func(*x))
+    except (ArithmeticError, ValueError, TypeError) as exc:
+        raise ModelError(f"the measurement model failed on a chunk of trials: {exc}") from exc
+    if y.dtype.kind not in "biuf":
+        raise ModelError(f"the measurement model must return real numbers, got dtype {y.dtype}")
+    try:
+        return np.broadcast_to(y, (size,))
+    except ValueError:
+        raise ModelError(
+            f"the measurement model must return one value per trial, shape ({size},), "
+            f"got shape {y.shape}"
+        ) from None
+
+
+def _in_order(
+    task: Callable[[int], _ChunkOutcome], chunks: range, jobs: int
+) -> Iterator[_ChunkOutcome]:
+    """``task(k)`` for every chunk k, yielded in chunk order; with ``jobs`` > 1 computed by a
+    pool of threads a few chunks ahead. Closing the iterator (or an error) cancels the chunks
+    not yet started and waits for the running ones, so no thread outlives the run."""
+    if jobs == 1 or len(chunks) == 1:
+        for k in chunks:
+            yield task(k)
+        return
+    pool = ThreadPoolExecutor(max_workers=min(jobs, len(chunks)), thread_name_prefix="mc")
+    todo = iter(chunks)
+    pending: deque[Future[_ChunkOutcome]] = deque(
+        pool.submit(task, k) for k in itertools.islice(todo, 2 * jobs)
+    )
+    try:
+        while pending:
+            outcome = pending.popleft().result()
+            pending.extend(pool.submit(task, k) for k in itertools.islice(todo, 1))
+            yield outcome
+    finally:
+        for future in pending:
+            future.cancel()
+        pool.shutdown(wait=True)
 
 
 def _evaluate(
     func: Callable[..., ArrayLike],
     sampler: _Sampler,
     out: np.ndarray,
-    chunk_size: int,
-) -> tuple[int, str]:
-    """Fill ``out`` with model values; return (number of non-finite values, one example)."""
-    bad = 0
-    example = ""
+    jobs: int,
+    progress: ProgressCallback | None,
+) -> tuple[int, str, list[_Stats]]:
+    """Fill ``out`` with model values; return the number of non-finite values, one example
+    and the statistics of every chunk."""
     m = out.size
-    for start in range(0, m, chunk_size):
-        size = min(chunk_size, m - start)
-        x = sampler.draw(size)
-        with np.errstate(all="ignore"):
-            try:
-                raw = func(*x)
-            except (ArithmeticError, ValueError, TypeError) as exc:
-                raise ModelError(
-                    f"the measurement model failed on a chunk of trials: {exc}"
-                ) from exc
-            y = np.asarray(raw)
-        if y.dtype.kind not in "biuf":
-            raise ModelError(f"the measurement model must return real numbers, got dtype {y.dtype}")
-        try:
-            y = np.broadcast_to(y, (size,))
-        except ValueError:
-            raise ModelError(
-                f"the measurement model must return one value per trial, shape ({size},), "
-                f"got shape {y.shape}"
-            ) from None
-        chunk = out[start : start + size]
-        chunk[...] = y
-        finite = np.isfinite(chunk)
-        if not finite.all():
-            nbad = int(size - np.count_nonzero(finite))
-            if not example:
-                j = int(np.argmin(finite))
-                example = (
-                    ", ".join(f"{q.name}={x[i, j]!r}" for i, q in enumerate(sampler.inputs))
-                    + f" gives {chunk[j]!r}"
-                )
-            bad += nbad
-    return bad, example
+    bad, example, stats = 0, "", []
+    outcomes = _in_order(_chunk_task(func, sampler, out), range(-(-m // CHUNK_TRIALS)), jobs)
+    try:
+        for k, outcome in enumerate(outcomes):
+            bad += outcome.bad
+            example = example or outcome.example
+            stats.append(outcome.stats)
+            if progress is not None:
+                progress(min((k + 1) * CHUNK_TRIALS, m), m)
+    finally:
+        outcomes.close()
+    return bad, example, stats
 
 
 def _model_error(bad: int, total: int, example: str) -> ModelError:
@@ -788,8 +1099,9 @@ def run_monte_carlo(
     rng: np.random.Generator | None = None,
     seed: int | None = None,
     coverage_probability: float = DEFAULT_COVERAGE_PROBABILITY,
-    chunk_size: int = 100_000,
     histogram_bins: int = 100,
+    jobs: int | None = 1,
+    progress: ProgressCallback | None = None,
 ) -> MonteCarloResult:
     """Propagate the input distributions through a vectorised model with M fixed trials.
 
@@ -799,7 +1111,8 @@ def run_monte_carlo(
         Vectorised measurement model ``func(x1, ..., xn)``: one float64 array per input (in
         the order of ``inputs``, in SI units), returning an array of the same length (or a
         scalar, broadcast) [output unit]. Evaluated inside ``numpy.errstate(all="ignore")``;
-        non-finite values are reported instead.
+        non-finite values are reported instead. With ``jobs`` > 1 it is called from several
+        threads at once and must be thread-safe.
     inputs : sequence of InputQuantity
         The input quantities (estimates and standard uncertainties in SI).
     correlation : (n, n) array_like or None
@@ -807,16 +1120,21 @@ def run_monte_carlo(
     trials : int
         Number M of Monte Carlo trials [1].
     rng : numpy.random.Generator or None
-        Source of randomness. If ``None``, ``numpy.random.default_rng(seed)`` is created.
+        Source of randomness: asked for four integers that seed the run's streams.
     seed : int or None
-        Seed for a new generator (recorded in the result); not allowed together with ``rng``.
+        Seed of the run's streams (recorded in the result); not allowed together with
+        ``rng``. With neither, fresh entropy from the operating system.
     coverage_probability : float
         Coverage probability p, 0 < p < 1 [1].
-    chunk_size : int
-        Trials drawn and evaluated at a time; bounds the memory of the input draws to about
-        8·n·chunk_size bytes. Results do not depend on it.
     histogram_bins : int
         Number of histogram bins [1].
+    jobs : int or None
+        Threads that draw and evaluate chunks of :data:`CHUNK_TRIALS` trials at the same
+        time [1], capped at :data:`MAX_JOBS`; 1 (the default) for none, ``None`` for every
+        available core. The result does not depend on it (module notes).
+    progress : callable, optional
+        ``progress(trials_done, trials)``, called in the calling thread after every chunk, in
+        order; an exception it raises stops the run and is passed on.
 
     Returns
     -------
@@ -827,9 +1145,9 @@ def run_monte_carlo(
     Raises
     ------
     InputError
-        ``trials``, ``chunk_size`` or ``histogram_bins`` < 1, ``trials`` above
-        :data:`MAX_TRIALS`, p outside (0, 1), M too small
-        for p, a correlation matrix of the wrong shape, both ``rng`` and ``seed``.
+        ``trials`` or ``histogram_bins`` < 1, ``trials`` above :data:`MAX_TRIALS`, ``jobs``
+        below 1, p outside (0, 1), M too small for p, a correlation matrix of the wrong
+        shape, both ``rng`` and ``seed``.
     CorrelationError
         An invalid correlation matrix.
     ModelError
@@ -839,8 +1157,9 @@ def run_monte_carlo(
     Notes
     -----
     Only the M output values are kept (8 bytes each, e.g. 80 MB for 10⁷ trials), sorted once
-    for the coverage intervals; the input draws never exist for more than one chunk.
-    y is the mean of the values and u(y) their standard deviation with divisor M − 1.
+    in place for the coverage intervals; the input draws never exist for more than one chunk
+    per thread. y is the mean of the values and u(y) their standard deviation with divisor
+    M − 1.
 
     References
     ----------
@@ -856,25 +1175,25 @@ def run_monte_carlo(
     """
     items = _check_inputs(inputs)
     m = check_trials(trials, "trials")
-    chunk = _check_int(chunk_size, "chunk_size")
     bins = _check_int(histogram_bins, "histogram_bins", maximum=MAX_HISTOGRAM_BINS)
     p = _check_probability(coverage_probability)
     _coverage_indices(m, p)
+    workers = check_jobs(jobs)
+    _check_progress(progress)
     r = _check_correlation(correlation, items)
-    generator, seed = _make_rng(rng, seed)
-    sampler = _Sampler(items, r, generator)
+    root, seed = _make_root(rng, seed)
+    sampler = _Sampler(items, r, root)
 
     y = np.empty(m, dtype=np.float64)
-    bad, example = _evaluate(func, sampler, y, chunk)
+    bad, example, stats = _evaluate(func, sampler, y, workers, progress)
     if bad:
         raise _model_error(bad, m, example)
     note = (
         f"fixed number of trials M = {m}; stabilisation not assessed "
         f"(use run_adaptive, JCGM 101:2008 7.9)"
     )
-    return _summarise(
-        y, p, "symmetric", bins, trials=m, seed=seed, converged=False, batches=None, note=note
-    )
+    return _summarise(y, p, "symmetric", bins, trials=m, seed=seed, converged=False,
+                      batches=None, note=note, stats=stats, jobs=workers)  # fmt: skip
 
 
 def run_adaptive(
@@ -888,12 +1207,14 @@ def run_adaptive(
     seed: int | None = None,
     max_trials: int = MAX_TRIALS,
     interval: IntervalKind = "symmetric",
+    jobs: int | None = 1,
+    progress: ProgressCallback | None = None,
 ) -> MonteCarloResult:
     """Adaptive Monte Carlo procedure: add batches of trials until the results are stable.
 
     Parameters
     ----------
-    func, inputs, correlation, rng, seed, coverage_probability
+    func, inputs, correlation, rng, seed, coverage_probability, jobs
         As for :func:`run_monte_carlo`.
     significant_digits : int
         n_dig, the number of significant digits of u(y) to be stable [1].
@@ -902,6 +1223,9 @@ def run_adaptive(
         batch and at most :data:`MAX_TRIALS` (the default).
     interval : {"symmetric", "shortest"}
         Coverage interval whose end-points are monitored and reported as ``interval``.
+    progress : callable, optional
+        ``progress(trials_done, max_trials)`` after every chunk, as for
+        :func:`run_monte_carlo` (``max_trials`` is an upper bound).
 
     Returns
     -------
@@ -928,7 +1252,9 @@ def run_adaptive(
     formed for each of y, u(y), y_low and y_high: s_z² = Σ (z⁽ʳ⁾ − z̄)² / (h(h − 1)).
     δ is the numerical tolerance (:func:`numerical_tolerance`) of u(y) from all h·M values.
     The computation has stabilised when 2 s_z ≤ δ for all four; the result then uses all
-    h·M model values.
+    h·M model values, which are those of a fixed run of h·M trials with the same seed. With
+    ``jobs`` > 1, chunks are drawn a few ahead of the batch being checked; those past the
+    batch that stabilises are discarded, so the result is the same for any ``jobs``.
 
     References
     ----------
@@ -953,13 +1279,14 @@ def run_adaptive(
             f"max_trials must be at least one batch of M = {batch} trials for "
             f"coverage_probability = {p!r}, got {cap!r}"
         )
+    workers = check_jobs(jobs)
+    _check_progress(progress)
     r = _check_correlation(correlation, items)
-    generator, seed = _make_rng(rng, seed)
-    sampler = _Sampler(items, r, generator)
-    values, converged, delta, worst = _batches(func, sampler, batch, cap, p, kind, n_dig)
-    h = len(values)
-    all_values = np.concatenate(values)
-    del values
+    root, seed = _make_root(rng, seed)
+    sampler = _Sampler(items, r, root)
+    run = _AdaptiveRun(batch, p, kind, n_dig)
+    all_values, converged = _batches(func, sampler, run, cap, workers, progress)
+    h, delta, worst = run.h, run.delta, run.worst
     if converged:
         note = (
             f"adaptive procedure stabilised after h = {h} batches of M = {batch} trials "
@@ -977,50 +1304,80 @@ def run_adaptive(
             f"M = {batch} trials; {still}"
         )
     return _summarise(all_values, p, kind, 100, trials=h * batch, seed=seed,
-                      converged=converged, batches=h, note=note)  # fmt: skip
+                      converged=converged, batches=h, note=note, jobs=workers)  # fmt: skip
+
+
+class _AdaptiveRun:
+    """The stopping rule of the adaptive procedure (JCGM 101:2008, 7.9.4), fed batch by batch."""
+
+    def __init__(self, batch: int, p: float, kind: IntervalKind, n_dig: int) -> None:
+        self.batch, self.p, self.kind, self.n_dig = batch, p, kind, n_dig
+        self.stats: list[tuple[float, float, float, float]] = []
+        self.count, self.mean, self.m2 = 0, 0.0, 0.0
+        self.delta, self.worst = math.nan, ""
+
+    @property
+    def h(self) -> int:
+        """Number of batches so far."""
+        return len(self.stats)
+
+    def add(self, y: np.ndarray) -> bool:
+        """Take one batch of model values; ``True`` once the results have stabilised."""
+        batch = self.batch
+        mb, m2b = _mean_and_m2(y)
+        lo, hi = _interval_sorted(np.sort(y), self.p, self.kind)
+        self.stats.append((mb, math.sqrt(m2b / (batch - 1)), lo, hi))
+        total = self.count + batch
+        d = mb - self.mean
+        self.mean += d * batch / total
+        self.m2 += m2b + d * d * self.count * batch / total
+        self.count = total
+        h = len(self.stats)
+        if h < 2:
+            return False
+        self.delta = numerical_tolerance(math.sqrt(self.m2 / (self.count - 1)), self.n_dig)
+        s = np.std(np.array(self.stats), axis=0, ddof=1) / math.sqrt(h)
+        j = int(np.argmax(s))
+        self.worst = f"2s({('y', 'u(y)', 'y_low', 'y_high')[j]}) = {2 * s[j]:.3g}"
+        return bool(np.all(2.0 * s <= self.delta))
 
 
 def _batches(
     func: Callable[..., ArrayLike],
     sampler: _Sampler,
-    batch: int,
+    run: _AdaptiveRun,
     cap: int,
-    p: float,
-    kind: IntervalKind,
-    n_dig: int,
-) -> tuple[list[np.ndarray], bool, float, str]:
+    jobs: int,
+    progress: ProgressCallback | None,
+) -> tuple[np.ndarray, bool]:
     """Batches of the adaptive procedure until stable (JCGM 101:2008, 7.9.4) or ``cap``.
 
-    Returns the batches of model values, whether they stabilised, δ and the largest 2s_z.
+    The trials are those of a fixed run, chunk after chunk; a batch is checked as soon as its
+    chunks are in. Returns the model values of the h batches taken and whether they
+    stabilised.
     """
-    values: list[np.ndarray] = []
-    stats: list[tuple[float, float, float, float]] = []
-    count, mean_all, m2_all = 0, 0.0, 0.0
-    delta, worst = math.nan, ""
-    while (len(values) + 1) * batch <= cap:
-        y = np.empty(batch, dtype=np.float64)
-        bad, example = _evaluate(func, sampler, y, _ADAPTIVE_CHUNK)
-        if bad:
-            raise _model_error(bad, batch, f"{example} (batch {len(values) + 1})")
-        values.append(y)
-        mb, m2b = _mean_and_m2(y)
-        lo, hi = _interval_sorted(np.sort(y), p, kind)
-        stats.append((mb, math.sqrt(m2b / (batch - 1)), lo, hi))
-        total = count + batch
-        d = mb - mean_all
-        mean_all += d * batch / total
-        m2_all += m2b + d * d * count * batch / total
-        count = total
-        h = len(values)
-        if h < 2:
-            continue
-        delta = numerical_tolerance(math.sqrt(m2_all / (count - 1)), n_dig)
-        s = np.std(np.array(stats), axis=0, ddof=1) / math.sqrt(h)
-        j = int(np.argmax(s))
-        worst = f"2s({('y', 'u(y)', 'y_low', 'y_high')[j]}) = {2 * s[j]:.3g}"
-        if np.all(2.0 * s <= delta):
-            return values, True, delta, worst
-    return values, False, delta, worst
+    batch = run.batch
+    need = cap // batch * batch
+    y = np.empty(need, dtype=np.float64)  # pages are only touched as chunks fill them
+    outcomes = _in_order(_chunk_task(func, sampler, y), range(-(-need // CHUNK_TRIALS)), jobs)
+    examples: list[str] = []
+    try:
+        for k, outcome in enumerate(outcomes):
+            examples.append(outcome.example)
+            done = min((k + 1) * CHUNK_TRIALS, need)
+            if progress is not None:
+                progress(done, cap)
+            while (run.h + 1) * batch <= done:
+                values = y[run.h * batch : (run.h + 1) * batch]
+                bad = values.size - int(np.count_nonzero(np.isfinite(values)))
+                if bad:  # earlier batches were finite: the first example is in this one
+                    example = next(e for e in examples if e)
+                    raise _model_error(bad, batch, f"{example} (batch {run.h + 1})")
+                if run.add(values):
+                    return y[: run.h * batch], True
+    finally:
+        outcomes.close()
+    return y[: run.h * batch], False
 
 
 # ---------------------------------------------------------------------------- validation

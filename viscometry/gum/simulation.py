@@ -28,7 +28,9 @@ from viscometry.gum.montecarlo import (
     MAX_TRIALS,
     IntervalKind,
     MonteCarloResult,
+    ProgressCallback,
     ValidationResult,
+    check_jobs,
     check_trials,
     run_adaptive,
     run_monte_carlo,
@@ -49,9 +51,6 @@ __all__ = [
 #: M = 10⁶ as a value that can often be expected to deliver a 95 % interval correct to one
 #: or two significant decimal digits).
 DEFAULT_TRIALS = 10**6
-
-#: ``progress(trials_done, trials_total)``; see :func:`simulate_budget`.
-ProgressCallback = Callable[[int, int], object]
 
 
 @dataclass(frozen=True)
@@ -191,6 +190,7 @@ def simulate_budget(
     higher_order_reference: bool = False,
     progress: ProgressCallback | None = None,
     max_trials: int = MAX_TRIALS,
+    jobs: int | None = None,
 ) -> BudgetSimulation:
     """Propagate a budget's input distributions by Monte Carlo and validate its first-order result.
 
@@ -209,7 +209,8 @@ def simulate_budget(
         n_dig: significant digits of u(y) for the numerical tolerance δ of the validation
         and, in an adaptive run, of the stopping rule [1].
     seed : int, optional
-        Seed of a new :func:`numpy.random.default_rng` (recorded in the result).
+        Seed of the run's random streams (recorded in the result; the streams are laid out
+        in :mod:`viscometry.gum.montecarlo`).
     rng : numpy.random.Generator, optional
         A generator to draw from instead of ``seed`` (then ``mc.seed`` is ``None``).
     interval : {"symmetric", "shortest"}
@@ -219,15 +220,20 @@ def simulate_budget(
         Validate the result with the higher-order terms of JCGM 100:2008 eq. (10) instead of
         the first-order one (uncorrelated inputs only).
     progress : callable, optional
-        ``progress(trials_done, trials_total)`` is called after every evaluated chunk of
-        trials (for a progress bar in a notebook); it must not print. In an adaptive run
-        ``trials_total`` is ``max_trials``, an upper bound. An exception it raises other
-        than :class:`ArithmeticError`, :class:`ValueError` or :class:`TypeError` (which are
-        reported as a model failure) stops the run.
+        ``progress(trials_done, trials_total)`` is called in the calling thread after every
+        chunk of :data:`~viscometry.gum.montecarlo.CHUNK_TRIALS` trials, in order (for a
+        progress bar in a notebook); it must not print. In an adaptive run ``trials_total``
+        is ``max_trials``, an upper bound. An exception it raises stops the run and is
+        passed on.
     max_trials : int
         Upper bound on the trials of an adaptive run [1], at most (and by default)
         :data:`~viscometry.gum.montecarlo.MAX_TRIALS`; a run that reaches it without
         stabilising says so in ``mc.note`` and is not validated.
+    jobs : int, optional
+        Threads that draw and evaluate chunks of trials at the same time [1]; default every
+        available core (:func:`~viscometry.gum.montecarlo.available_cores`), 1 for no
+        threads, capped at :data:`~viscometry.gum.montecarlo.MAX_JOBS`. A seeded result is
+        bit-identical whatever ``jobs`` is.
 
     Returns
     -------
@@ -239,8 +245,8 @@ def simulate_budget(
     InputError
         Invalid arguments (``trials`` together with ``adaptive``, too few trials for the
         coverage probability, ``trials`` or ``max_trials`` above
-        :data:`~viscometry.gum.montecarlo.MAX_TRIALS`, both ``seed`` and ``rng``, an
-        unknown ``interval``).
+        :data:`~viscometry.gum.montecarlo.MAX_TRIALS`, ``jobs`` below 1, both ``seed`` and
+        ``rng``, an unknown ``interval``).
     ModelError
         The model gives non-finite values in some trials, or (``higher_order_reference``)
         the inputs are correlated.
@@ -278,8 +284,8 @@ def simulate_budget(
     ...                                        InputQuantity.normal("b", 3.0, 0.003, "m")],
     ...                         "cm^2")
     >>> sim = simulate_budget(b, trials=100_000, seed=1, significant_digits=1)
-    >>> round(sim.mc.value), sim.validated
-    (60000, True)
+    >>> round(sim.mc.value, -1), sim.validated  # 6 m² = 60 000 cm², u(A) = 85 cm²
+    (60000.0, True)
     >>> sorted(sim.to_dict())  # doctest: +NORMALIZE_WHITESPACE
     ['adaptive', 'converged', 'coverage_probability', 'first_order', 'interval', 'seed',
      'standard_uncertainty', 'trials', 'validation', 'value']
@@ -287,12 +293,14 @@ def simulate_budget(
     _check_arguments(budget, trials, adaptive, interval, progress)
     if adaptive:
         check_trials(max_trials, "max_trials")
+    workers = check_jobs(jobs)
     first_order = budget.evaluate(higher_order=bool(higher_order_reference))
-    total = max_trials if adaptive else (DEFAULT_TRIALS if trials is None else trials)
-    model = _measurand_model(budget, progress, total)
+    total = DEFAULT_TRIALS if trials is None else trials
+    model = _measurand_model(budget)
     inputs = budget.si_inputs()
     common = {"correlation": budget.correlation_matrix, "rng": rng, "seed": seed,
-              "coverage_probability": budget.coverage_probability}  # fmt: skip
+              "coverage_probability": budget.coverage_probability, "jobs": workers,
+              "progress": progress}  # fmt: skip
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", CorrelationWarning)
         if adaptive:
@@ -340,24 +348,18 @@ def _check_arguments(
         )
 
 
-def _measurand_model(
-    budget: Budget, progress: ProgressCallback | None, total: int
-) -> Callable[..., np.ndarray]:
-    """The budget's compiled model on SI draws, giving the measurand in its own unit."""
+def _measurand_model(budget: Budget) -> Callable[..., np.ndarray]:
+    """The budget's compiled model on SI draws, giving the measurand in its own unit (a pure
+    function of its arguments, so threads may call it at once)."""
     constants = tuple(float(c) for c in budget.si_arrays()[3])
     scale, offset = budget.output_scale, budget.output_offset
     value = budget.compiled.value
-    done = [0]
 
     def model(*x: np.ndarray) -> np.ndarray:
         y = value(*x, *constants)
         if offset != 0.0:
             y = y - offset
-        y = y / scale if scale != 1.0 else y
-        if progress is not None:
-            done[0] += int(np.size(x[0]))
-            progress(done[0], total)
-        return y
+        return y / scale if scale != 1.0 else y
 
     return model
 

@@ -31,7 +31,7 @@ import ipywidgets as widgets
 
 from viscometry.errors import InputError, ViscometryError
 from viscometry.gum.budget import Budget
-from viscometry.gum.montecarlo import MAX_TRIALS, IntervalKind
+from viscometry.gum.montecarlo import MAX_TRIALS, IntervalKind, check_jobs
 from viscometry.gum.simulation import BudgetSimulation, simulate_budget
 from viscometry.mc_plots import monte_carlo_figure
 from viscometry.plots import figure_png
@@ -114,6 +114,9 @@ class MonteCarloPanel:
         Validate the higher-order instead of the first-order result.
     chart_dpi : float
         Resolution of the chart image [dots per inch].
+    jobs : int
+        Threads of a run [1] (:func:`viscometry.gum.simulation.simulate_budget`); the
+        result is the same for any number.
     """
 
     widget: widgets.VBox
@@ -131,6 +134,7 @@ class MonteCarloPanel:
     significant_digits: int = 2
     higher_order_reference: bool = False
     chart_dpi: float = 80.0
+    jobs: int = 1
     _uncertainty: NumberField = field(repr=False, default=None)  # type: ignore[assignment]
     _state: _PanelState = field(repr=False, default=None)  # type: ignore[assignment]
 
@@ -185,6 +189,7 @@ class MonteCarloPanel:
                 budget, trials=trials, seed=_count(self.seed.value, "seed"),
                 interval=self.interval.value, significant_digits=self.significant_digits,
                 higher_order_reference=self.higher_order_reference, progress=on_progress,
+                jobs=self.jobs,
             )  # fmt: skip
         except ViscometryError as exc:
             key = next((k for k in ("trials", "seed") if str(exc).startswith(k)), None)
@@ -210,6 +215,7 @@ def monte_carlo_panel(
     higher_order_reference: bool = False,
     run_now: bool = True,
     chart_dpi: float = 80.0,
+    jobs: int | None = None,
 ) -> MonteCarloPanel:
     """Build a panel that validates ``budget`` by Monte Carlo while one input's u is varied.
 
@@ -236,6 +242,10 @@ def monte_carlo_panel(
         Run once with the initial settings, so the panel opens with a result.
     chart_dpi : float
         Resolution of the chart [dots per inch].
+    jobs : int, optional
+        Threads that draw the trials of a run at the same time [1]; default every available
+        core, 1 for none. A seeded result is the same for any number (the progress bar moves
+        in the kernel's own thread).
 
     Returns
     -------
@@ -246,7 +256,7 @@ def monte_carlo_panel(
     ------
     InputError
         Unknown ``input_name``, a ``trials`` or ``seed`` that is not a whole number in range,
-        or an unknown ``interval``.
+        an unknown ``interval``, or ``jobs`` below 1.
     ViscometryError
         If the budget as given cannot be evaluated.
 
@@ -271,6 +281,7 @@ def monte_carlo_panel(
     first = budget.evaluate()
     name = first.dominant.name if input_name is None else budget.input(input_name).name
     _check_arguments(trials, seed, interval)
+    workers = check_jobs(jobs)
     c = _controls(budget.input(name), trials, seed, interval)
     title = html.escape(budget.title or f"Uncertainty budget of {budget.measurand}")
     header = widgets.HTML(
@@ -293,6 +304,7 @@ def monte_carlo_panel(
         significant_digits=significant_digits,
         higher_order_reference=higher_order_reference,
         chart_dpi=chart_dpi,
+        jobs=workers,
         _uncertainty=c["uncertainty"],
         _state=_PanelState(budget),
     )
