@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import math
-import secrets
 
 NAME = "simulate"
 HELP = (
@@ -128,7 +127,7 @@ def run(args: argparse.Namespace) -> int:
     jobs = check_jobs(args.jobs, "--jobs")  # before the file: it is not about the file
     bf = load_budget(args.file)
     # Without --seed, a seed is drawn and shown, so that every run can be repeated exactly.
-    seed = args.seed if args.seed is not None else secrets.randbits(32)
+    seed = args.seed if args.seed is not None else _random_seed()
     try:
         sim = simulate_budget(
             bf.budget, trials=args.trials, adaptive=args.adaptive,
@@ -150,3 +149,10 @@ def run(args: argparse.Namespace) -> int:
             print(f"seed drawn at random; repeat this run with --seed {seed}")
         print("\n".join(provenance_lines(bf)))
     return 0
+
+
+def _random_seed() -> int:
+    """A seed drawn from the operating system's randomness (32 bits)."""
+    import secrets
+
+    return secrets.randbits(32)
