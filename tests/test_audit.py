@@ -439,3 +439,158 @@ def test_the_table_shows_skipped_files(tmp_path) -> None:
     row = table.iloc[2]
     assert (row["recorded"], row["recomputed"], row["fingerprint"]) == ("—", "—", "—")
     assert row["detail"].startswith("not a budget file (a step-up chain file")
+
+
+# ------------------------------------------------------------ every core (viscometry.parallel)
+# Expected lines are this package's own wording (no external source); the files are copies of
+# the invented examples and generated budgets whose records come from this package.
+_REAL_AUDIT_FILE = audit_file
+_FAILING = "failing.toml"
+
+
+def _audit_or_fail(path):  # type: ignore[no-untyped-def]
+    """audit_file, except that a file named ``failing.toml`` raises (in a worker too)."""
+    if Path(path).name == _FAILING:
+        raise RuntimeError("simulated fault")
+    return _REAL_AUDIT_FILE(path)
+
+
+@pytest.fixture
+def workers_do_the_work(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Start worker processes whatever the work left, and let them evaluate every file after
+    the first two (which the calling process evaluates to measure them)."""
+    import viscometry.parallel as parallel
+
+    monkeypatch.setattr(parallel, "PARALLEL_WORK", 0.0)
+    monkeypatch.setattr(parallel, "WORK_HERE", False)
+    started = []
+    real = parallel._with_workers
+
+    def spy(run, indexes, workers, size):  # type: ignore[no-untyped-def]
+        started.append(len(indexes))
+        return real(run, indexes, workers, size)
+
+    monkeypatch.setattr(parallel, "_with_workers", spy)
+    return started
+
+
+def _archive(tmp_path: Path) -> Path:
+    """About 30 budget files: the examples under other titles, generated formula budgets,
+    one damaged and one whose record differs."""
+    from viscometry.gum import Budget, InputQuantity
+    from viscometry.io import save_budget
+    from viscometry.io.writer import recorded_from
+
+    folder = tmp_path / "archive"
+    folder.mkdir()
+    examples = sorted(
+        p for p in EXAMPLES.rglob("*.toml") if not {"upgrades", "chains"} & set(p.parts)
+    )
+    for n, path in enumerate(examples):
+        text = path.read_text(encoding="utf-8")
+        retitled = text.replace('title = "', f'title = "copy {n}: ', 1)
+        (folder / f"example_{n:02d}.toml").write_text(retitled, encoding="utf-8")
+    for n in range(8):
+        inputs = [InputQuantity.normal(f"x{j}_{n}", 1.0 + j + n / 10, 0.01 * (j + 1), "1")
+                  for j in range(3 + n % 4)]  # fmt: skip
+        formula = " * ".join(q.name for q in inputs[:-1]) + f" / {inputs[-1].name}"
+        budget = Budget.from_formula("y", formula, inputs, "1", title=f"generated {n}")
+        save_budget(
+            budget, folder / f"generated_{n}.toml", recorded=recorded_from(budget.evaluate())
+        )
+    (folder / "x_damaged.toml").write_bytes(b"")
+    text = PRIMARY.read_text(encoding="utf-8")
+    (folder / "x_differs.toml").write_text(text.replace("value = 0.20000", "value = 0.20010", 1))
+    return folder
+
+
+def test_more_jobs_print_the_same_bytes_and_exit_code(tmp_path, capsys, workers_do_the_work):
+    from viscometry.cli import main
+
+    folder = _archive(tmp_path)
+    code = {}
+    out = {}
+    for jobs in ("1", "2"):
+        code[jobs] = main(["audit", "--jobs", jobs, str(folder)])
+        captured = capsys.readouterr()
+        out[jobs] = captured.out
+        assert captured.err == ""  # no progress line: standard error is not a terminal
+    assert workers_do_the_work == [28]  # every file but the first two, in a worker
+    assert out["2"] == out["1"] and code["2"] == code["1"] == 2
+    lines = out["1"].splitlines()
+    assert lines[-1] == "30 file(s): 28 match, 1 differs, 1 error"
+    assert lines[-3].startswith(f"ERROR    {folder / 'x_damaged.toml'}: missing key format")
+    assert "counted as a damaged budget file: empty" in lines[-3]
+    assert lines[-2].startswith(f"DIFFERS  {folder / 'x_differs.toml'}: value recorded")
+
+
+def test_a_failing_evaluation_is_an_error_line_for_that_file(tmp_path, capsys, monkeypatch,
+                                                             workers_do_the_work) -> None:  # fmt: skip
+    import viscometry.audit as audit
+    from viscometry.cli import main
+
+    folder = _folder_with(tmp_path)
+    for name in ("a.toml", "b.toml", _FAILING):
+        shutil.copy(PRIMARY, folder / name)
+    monkeypatch.setattr(audit, "audit_file", _audit_or_fail)
+    out = {}
+    for jobs in ("1", "2"):
+        assert main(["audit", "--jobs", jobs, str(folder)]) == 2
+        out[jobs] = capsys.readouterr().out
+    assert workers_do_the_work == [2]  # the failing file and the one after it, in a worker
+    assert out["2"] == out["1"]
+    lines = out["1"].splitlines()
+    assert f"ERROR  {folder / _FAILING}: unexpected RuntimeError: simulated fault" in lines
+    assert lines[-1] == "4 file(s): 3 match, 1 error"
+
+
+@pytest.mark.parametrize("jobs", ["0", "-3"])
+def test_jobs_below_one_are_refused(capsys, jobs) -> None:
+    from viscometry.cli import main
+
+    assert main(["audit", "--jobs", jobs, str(PRIMARY)]) == 2
+    captured = capsys.readouterr()
+    assert captured.out == ""
+    assert (
+        captured.err
+        == f"viscometry: error: --jobs must be a whole number of at least 1, got {jobs}\n"
+    )
+    with pytest.raises(ValueError, match="jobs must be a whole number of at least 1, got 0"):
+        run_audit([PRIMARY], jobs=0)
+
+
+def test_jobs_that_are_not_whole_numbers_are_refused(capsys) -> None:
+    from viscometry.cli import main
+
+    assert main(["audit", "--jobs", "1.5", str(PRIMARY)]) == 2
+    assert "argument --jobs: must be a whole number, got '1.5'" in capsys.readouterr().err
+
+
+def test_progress_shows_on_a_terminal_only_and_never_with_json(tmp_path, capsys, monkeypatch):
+    import io
+    import sys
+
+    from test_parallel import shown_on
+
+    from viscometry.cli import main
+    from viscometry.parallel import TerminalProgress
+
+    folder = _folder_with(tmp_path)
+    shutil.copy(PRIMARY, folder / "copy.toml")
+    monkeypatch.setattr(TerminalProgress.__init__, "__kwdefaults__", {"delay": 0, "interval": 0})
+    reader, writer = os.openpty()
+    terminal = io.TextIOWrapper(io.FileIO(writer, "w"), encoding="utf-8")
+    monkeypatch.setattr(sys, "stderr", terminal)
+    try:
+        assert main(["audit", "--jobs", "1", str(folder)]) == 0
+        text_out = capsys.readouterr().out
+        assert main(["audit", "--jobs", "1", "--json", str(folder)]) == 0
+        terminal.flush()
+        shown = shown_on(reader)
+    finally:
+        monkeypatch.undo()
+        terminal.close()
+        os.close(reader)
+    blank = " " * len("auditing 2/2 files")
+    assert shown == "\rauditing 0/2 files\rauditing 1/2 files\rauditing 2/2 files\r" + blank + "\r"
+    assert text_out.splitlines()[-1] == "2 file(s): 2 match"  # standard output as without it

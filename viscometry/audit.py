@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -474,11 +474,12 @@ def audit_file(path: PathLike) -> AuditVerdict:
 
 
 def audit_paths(
-    paths: Iterable[PathLike], *, skip_damaged: bool = False
+    paths: Iterable[PathLike], *, skip_damaged: bool = False, jobs: int | None = None
 ) -> tuple[AuditVerdict, ...]:
     """Audit budget files and folders (searched recursively), in sorted order per folder.
 
-    The verdicts of :func:`run_audit`, which also lists the files a folder search skipped.
+    The verdicts of :func:`run_audit` (``jobs`` as there), which also lists the files a
+    folder search skipped.
 
     Examples
     --------
@@ -488,7 +489,7 @@ def audit_paths(
     ...     [v.status for v in audit_paths([d])]
     ['error']
     """
-    return run_audit(paths, skip_damaged=skip_damaged).verdicts
+    return run_audit(paths, skip_damaged=skip_damaged, jobs=jobs).verdicts
 
 
 @dataclass(frozen=True)
@@ -509,11 +510,49 @@ class AuditRun:
         return {**counts, "skipped": len(self.skipped)}
 
 
-def run_audit(paths: Iterable[PathLike], *, skip_damaged: bool = False) -> AuditRun:
+def run_audit(
+    paths: Iterable[PathLike],
+    *,
+    skip_damaged: bool = False,
+    jobs: int | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> AuditRun:
     """Audit budget files and folders; list what a folder search left out and why.
 
     Folders are searched as :func:`scan_paths` does; a damaged file found in a folder is an
     ``error`` verdict (with a note saying so) unless ``skip_damaged``.
+
+    Parameters
+    ----------
+    paths : iterable of path-like
+        Budget files (always audited) and folders (searched).
+    skip_damaged : bool
+        List damaged files found in a folder as skipped instead of auditing them.
+    jobs : int, optional
+        Processes that evaluate files at the same time, this one included (default: every
+        available core; 1: all in this process). The verdicts and their order do not depend
+        on it. A short audit stays in this process whatever ``jobs`` says; see
+        :func:`viscometry.parallel.map_files`, also for the ``if __name__ == "__main__":``
+        guard a script needs to use more than one.
+    progress : callable, optional
+        ``progress(done, total)`` as files are evaluated
+        (e.g. :class:`viscometry.parallel.TerminalProgress`).
+
+    Returns
+    -------
+    AuditRun
+
+    Raises
+    ------
+    InputError
+        ``jobs`` below 1 or not a whole number.
+
+    Notes
+    -----
+    A file whose evaluation fails unexpectedly (an exception that is not a
+    :class:`~viscometry.errors.ViscometryError`, ``MemoryError`` included) or whose worker
+    process dies is an ``error`` verdict with the reason; the other files are audited as
+    usual.
 
     Examples
     --------
@@ -524,17 +563,25 @@ def run_audit(paths: Iterable[PathLike], *, skip_damaged: bool = False) -> Audit
     ...     [v.status for v in run.verdicts], [s.kind for s in run.skipped], run.exit_code()
     (['error'], ['damaged'], 2)
     """
+    from viscometry.parallel import check_jobs, map_files
+
+    jobs = check_jobs(jobs)
     scan = scan_paths(paths, skip_damaged=skip_damaged)
     damaged = dict(scan.damaged)
+    evaluated = map_files(audit_file, scan.files, jobs, on_error=_failed, progress=progress)
     verdicts = []
-    for f in scan.files:
-        v = audit_file(f)
+    for f, v in zip(scan.files, evaluated, strict=True):
         if f in damaged and v.status == "error":
             said = any(damaged[f] in m for m in v.messages)
             note = _DAMAGED_NOTE.format(reason="" if said else f": {damaged[f]}")
             v = replace(v, messages=(*v.messages, note))
         verdicts.append(v)
     return AuditRun(scan.errors + tuple(verdicts), scan.skipped)
+
+
+def _failed(path: PathLike, reason: str) -> AuditVerdict:
+    """The verdict on a file whose evaluation failed unexpectedly or whose worker died."""
+    return AuditVerdict(str(path), "error", (one_line(reason),))
 
 
 def exit_code(verdicts: Sequence[AuditVerdict], *, strict: bool = False) -> int:

@@ -7,6 +7,11 @@ folder left out is listed on a ``SKIP`` line with the reason (another kind of TO
 hidden folder, a symbolic link to a folder, a backup name); skipped files do not change the
 exit code. A damaged file found in a folder (empty, not TOML, no format line, not a regular
 file, ...) is an error unless ``--skip-damaged`` lists it as skipped.
+
+Files are evaluated by ``--jobs`` processes (default: every core this process may use); the
+output does not depend on the number. A long audit shows ``auditing N/M files`` on standard
+error while it runs when standard error is a terminal (never with ``--json``, never when
+piped); the line is cleared at the end (:class:`viscometry.parallel.TerminalProgress`).
 """
 
 from __future__ import annotations
@@ -19,6 +24,8 @@ HELP = "recompute budget files and compare with their [recorded] results (exit 0
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``viscometry audit``."""
+    from viscometry.commands.simulate import whole_number
+
     parser.add_argument(
         "paths",
         metavar="PATH",
@@ -46,17 +53,32 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "TOML, no format line, not a regular file, unreadable) as skipped instead of counting "
         "it as an error (exit 2); a file whose format line names a budget is always audited",
     )
+    parser.add_argument(
+        "--jobs",
+        type=whole_number,
+        default=None,
+        metavar="N",
+        help="processes that evaluate files at the same time, this one included (default: "
+        "every core this process may use, at most 61; 1: no worker processes); a short audit "
+        "starts none; the output is the same for any N",
+    )
 
 
 def run(args: argparse.Namespace) -> int:
     """Audit every file; print a verdict line per file (or JSON). Returns 0, 1 or 2."""
+    import sys
+
     from viscometry import __version__
     from viscometry.audit import run_audit
     from viscometry.commands._common import print_json
     from viscometry.io.json_out import schema
+    from viscometry.parallel import TerminalProgress, check_jobs
     from viscometry.text import one_line
 
-    audit = run_audit(args.paths, skip_damaged=args.skip_damaged)
+    jobs = check_jobs(args.jobs, "--jobs")
+    with TerminalProgress("auditing", "files", sys.stderr) as bar:  # shown on a terminal only
+        progress = bar if bar.enabled and not args.json else None
+        audit = run_audit(args.paths, skip_damaged=args.skip_damaged, jobs=jobs, progress=progress)
     verdicts, skipped = audit.verdicts, audit.skipped
     code = audit.exit_code(strict=args.strict)
     if args.json:

@@ -8,7 +8,9 @@ names, and offers download links. A folder that does not exist, holds no budget 
 cannot be written is said in red; nothing is skipped silently: every file or folder the search
 leaves out (another kind of TOML file, a hidden folder, a symbolic link to a folder) is a row
 of the table with the verdict *skipped* and the reason, and the summary counts them
-(:func:`viscometry.audit.run_audit`).
+(:func:`viscometry.audit.run_audit`). A large folder is audited on every core (``jobs``;
+worker processes are started with 'spawn', which works from a notebook kernel because the
+function they run is importable from :mod:`viscometry.audit`).
 """
 
 from __future__ import annotations
@@ -21,6 +23,7 @@ import ipywidgets as widgets
 
 from viscometry.audit import AuditVerdict, Skipped, audit_table, run_audit
 from viscometry.errors import ViscometryError
+from viscometry.parallel import check_jobs
 from viscometry.report import write_audit_report
 from viscometry.text import audit_summary, audit_table_html
 from viscometry.widgets.fields import download_link, error_html, wrap_row
@@ -34,6 +37,7 @@ class _State:
         self.skipped: tuple[Skipped, ...] = ()
         self.folder: Path | None = None
         self.message = ""
+        self.jobs: int | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -71,7 +75,7 @@ class AuditPanel:
         if not folder.is_dir():
             self._refuse(self.summary_html, f"folder {str(folder)!r} does not exist")
             return ()
-        audit = run_audit([folder])
+        audit = run_audit([folder], jobs=self._state.jobs)
         verdicts = audit.verdicts
         table = audit_table(verdicts, relative_to=folder, skipped=audit.skipped)
         self._state.verdicts, self._state.skipped = verdicts, audit.skipped
@@ -113,9 +117,10 @@ class AuditPanel:
 
 
 def audit_panel(folder: str | Path = "examples", *, export_folder: str | Path = "audit_record",
-                run_now: bool = True) -> AuditPanel:  # fmt: skip
+                run_now: bool = True, jobs: int | None = None) -> AuditPanel:  # fmt: skip
     """Build an audit panel for a folder of budget files (audited at once unless ``run_now``
-    is False).
+    is False) by ``jobs`` processes (default every core; see
+    :func:`viscometry.audit.run_audit`).
 
     Examples
     --------
@@ -139,11 +144,13 @@ def audit_panel(folder: str | Path = "examples", *, export_folder: str | Path = 
         text("folder to audit", str(folder)),
         text("keep the record in", str(export_folder)),
     )
+    state = _State()
+    state.jobs = check_jobs(jobs)
     panel = AuditPanel(
         widget=widgets.VBox(), folder=folder_w, audit_button=button("Audit", "primary"),
         summary_html=widgets.HTML(), table_html=widgets.HTML(layout=widgets.Layout(width="100%")),
         export_folder=export_w, export_button=button("Export the record"), export_html=widgets.HTML(),
-        _state=_State(),
+        _state=state,
     )  # fmt: skip
     panel.widget.children = (
         wrap_row([folder_w, panel.audit_button]), panel.summary_html, panel.table_html,
