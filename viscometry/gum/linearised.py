@@ -109,12 +109,15 @@ class LinearisedBudget:
                                  where=f"inputs.{name}")  # fmt: skip
             u[i] = value
         u.setflags(write=False)
-        # A shallow copy that keeps what does not depend on u (the dofs, the name index)
-        # and drops the cached propagation: faster than dataclasses.replace for a slider.
+        # A shallow copy that keeps what does not depend on u (the dofs, the name index,
+        # the inputs that keep their sign) and drops the cached propagation: faster than
+        # dataclasses.replace for a slider. The plausibility warnings and the propagation
+        # checks of the new u run when the copy is read (warnings, _propagation).
         new = object.__new__(LinearisedBudget)
         new.__dict__.update(
             budget=self.budget, value=self.value, sensitivities=self.sensitivities,
             dofs=self.dofs, _index=index, _scales=scales, uncertainties=u,
+            _sign_bound_rows=self._sign_bound_rows,
         )  # fmt: skip
         return new
 
@@ -183,16 +186,23 @@ class LinearisedBudget:
         """(cᵢu(xᵢ))²/u_c² per input (correlation cross-terms not included)."""
         return np.asarray(self._propagation.variance_shares, dtype=float)
 
+    @functools.cached_property
+    def _sign_bound_rows(self) -> tuple[tuple[int, str, float, str], ...]:
+        """(index, name, estimate, unit) of the inputs that keep their sign: they depend on
+        the estimates only, so every what-if on uncertainties shares them."""
+        bound = set(self.budget.sign_bound)
+        return tuple(
+            (i, q.name, q.value, q.unit)
+            for i, q in enumerate(self.budget.inputs)
+            if q.name in bound
+        )
+
     @property
     def warnings(self) -> tuple[str, ...]:
         """The budget's estimate warnings and the plausibility warnings of these u(xᵢ)."""
         b = self.budget
-        bound = set(b.sign_bound)
-        rows = [
-            _Row(q.name, q.value, q.unit, float(u))
-            for q, u in zip(b.inputs, self.uncertainties, strict=True)
-            if q.name in bound
-        ]
+        u = self.uncertainties.tolist()
+        rows = [_Row(name, value, unit, u[i]) for i, name, value, unit in self._sign_bound_rows]
         notes = uncertainty_warnings(
             rows, b.measurand, self.value, self.expanded_uncertainty, b.positive_measurand,
             b.sign_bound, b.unit,

@@ -439,13 +439,21 @@ _NUMBER = re.compile(r"(?<![A-Za-z_\d.])[-+]?\d[\d.]*(?:e[-+]?\d+)?")
 
 
 def reaches_past_zero(values: np.ndarray, uncertainties: np.ndarray) -> np.ndarray:
-    """u(x) ≥ |x| for a non-zero x: the distribution of an input reaches past zero."""
+    """u(x) ≥ |x| for a non-zero x: the distribution of an input reaches past zero.
+
+    Arrays give a boolean array; two floats a bool (the cheap path of a single budget,
+    which every what-if of a slider takes)."""
+    if isinstance(values, float) and isinstance(uncertainties, float):
+        return values != 0 and uncertainties >= abs(values)  # type: ignore[return-value]
     v = np.asarray(values, dtype=float)
     return (v != 0) & (np.asarray(uncertainties, dtype=float) >= np.abs(v))
 
 
 def interval_below_zero(value: np.ndarray, expanded_uncertainty: np.ndarray) -> np.ndarray:
-    """y − U < 0 < y: the coverage interval of a positive measurand reaches below zero."""
+    """y − U < 0 < y: the coverage interval of a positive measurand reaches below zero
+    (arrays give a boolean array; two floats a bool)."""
+    if isinstance(value, float) and isinstance(expanded_uncertainty, float):
+        return value > 0 and value - expanded_uncertainty < 0  # type: ignore[return-value]
     y = np.asarray(value, dtype=float)
     return (y > 0) & (y - np.asarray(expanded_uncertainty, dtype=float) < 0)
 
