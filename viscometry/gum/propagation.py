@@ -215,7 +215,8 @@ def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray | f
     """k = t_p(ν) for many ν_eff at once, each truncated per G.6.4 (normal quantile for ∞).
 
     Uses :func:`scipy.special.stdtrit` and :func:`scipy.special.ndtri` directly: no
-    distribution objects, so a what-if slider or an upgrade search pays microseconds.
+    distribution objects, so a what-if slider or an upgrade search pays microseconds; for
+    many ν_eff each distinct truncated ν is looked up once (the same k as one by one).
 
     Examples
     --------
@@ -224,9 +225,23 @@ def coverage_factors(coverage_probability: float, effective_dofs: np.ndarray | f
     """
     q = 0.5 * (1.0 + check_probability(coverage_probability))
     truncated = truncate_dofs(effective_dofs)
-    finite = np.isfinite(truncated)
+    if truncated.size < _DISTINCT_FROM:
+        return _t_quantiles(q, truncated)
+    # After truncation (G.6.4) many budgets share few distinct ν: the quantile is computed
+    # once per distinct ν (the same special function on the same numbers: the same k)
+    distinct, inverse = np.unique(truncated.ravel(), return_inverse=True)
+    return _t_quantiles(q, distinct)[np.ravel(inverse)].reshape(truncated.shape)
+
+
+#: From this many ν_eff on, :func:`coverage_factors` computes each distinct one once.
+_DISTINCT_FROM = 32
+
+
+def _t_quantiles(q: float, dofs: np.ndarray) -> np.ndarray:
+    """The q quantile of Student's t for each ν of ``dofs`` (the normal one for ν = ∞)."""
+    finite = np.isfinite(dofs)
     with np.errstate(invalid="ignore"):
-        t = special.stdtrit(np.where(finite, truncated, 1.0), q)
+        t = special.stdtrit(np.where(finite, dofs, 1.0), q)
     return np.where(finite, t, special.ndtri(q))
 
 
@@ -416,7 +431,9 @@ def propagate(
         nu = np.asarray(dofs, dtype=float)
         if nu.ndim < z.ndim:
             nu = nu.reshape((-1,) + (1,) * (z.ndim - 1))
-        denom = np.sum(np.where(np.isinf(nu), 0.0, z**4 / nu), axis=0)
+        fourth = z**4  # (a statement of its own: numpy then skips its slow search for
+        # a temporary to reuse in `z**4 / nu`; the same numbers)
+        denom = np.sum(np.where(np.isinf(nu), 0.0, fourth / nu), axis=0)
         ok = (root > 0) & (denom > 0)
         nu_eff = np.where(ok, root**4 / np.where(ok, denom, 1.0), np.inf)
         uc, total = _with_extra(s2, big, first_uc, np.asarray(extra_variance, dtype=float))
