@@ -17,7 +17,7 @@ from __future__ import annotations
 import functools
 import math
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from types import MappingProxyType
 from typing import Any
 
@@ -532,13 +532,27 @@ class Budget:
     def with_uncertainty(self, name: str, standard_uncertainty: float) -> Budget:
         """A new budget where ``name`` has another standard uncertainty (its own unit).
 
-        What depends on the estimates only (the validity checks, the inputs that keep their
-        sign) is carried over, not computed again.
+        Only what a change of uncertainty can change is checked again: the new value (a
+        finite number ≥ 0, :meth:`InputQuantity.with_uncertainty`, that is a usable float in
+        SI units, as when the budget is built). Names, settings, units and dimensions, the
+        built-in model's refusals of estimates and the correlation matrix cannot change and
+        are carried over with the unit conversions, as is what depends on the estimates only
+        (the validity checks, the inputs that keep their sign). The plausibility and
+        propagation checks of the new uncertainty run when the new budget is evaluated.
+
+        Raises
+        ------
+        InputError
+            An unknown name, or an uncertainty a budget would refuse (naming it).
         """
-        new = self.with_input(self.input(name).with_uncertainty(standard_uncertainty))
-        for key in _ESTIMATE_CACHES:
-            if key in self.__dict__:
-                new.__dict__[key] = self.__dict__[key]
+        q = self.input(name)
+        new_q = q.with_uncertainty(standard_uncertainty)
+        new = object.__new__(type(self))
+        state = {key: self.__dict__[key] for key in _FIELDS}
+        state["inputs"] = tuple(new_q if p is q else p for p in self.inputs)
+        state.update((key, self.__dict__[key]) for key in _ESTIMATE_CACHES if key in self.__dict__)
+        new.__dict__.update(state)
+        new._check_si()
         return new
 
     def with_settings(self, **changes: Any) -> Budget:
@@ -686,6 +700,9 @@ class Budget:
 _ESTIMATE_CACHES = (
     "sign_bound", "estimate_warnings", "positive_measurand", "underflowed_sensitivities",
 )  # fmt: skip
+
+#: Every field of a budget, those set in ``__post_init__`` included (what a copy carries).
+_FIELDS = tuple(f.name for f in fields(Budget))
 
 
 def _kept(value: float) -> bool:
