@@ -9,12 +9,12 @@ and u_c, ν_eff, k and U of every candidate set come from one call of the propag
 (:func:`viscometry.gum.propagation.propagate`) on columns — the function every budget
 evaluation uses. A candidate that replaces an estimate is checked like any budget (a radius
 of zero is refused) and the model and its gradient are evaluated once per set, in one
-vectorised call.
+vectorised call. The sets stay columns of numbers (:class:`UpgradeOptions`); an
+:class:`UpgradeOption` row is built only for a set that is shown or asked for.
 """
 
 from __future__ import annotations
 
-import math
 import types
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, replace
@@ -28,6 +28,15 @@ from viscometry.errors import InputError, ViscometryError
 from viscometry.gum.budget import Budget, BudgetResult
 from viscometry.gum.inputs import InputQuantity
 from viscometry.gum.validity import check_points, point_plausibility, propagate_points
+from viscometry.planning.options import (
+    TARGET_TOLERANCE,
+    UpgradeOption,
+    UpgradeOptions,
+    cheapest_index,
+    concatenated,
+    evaluated_sets,
+    frontier_indices,
+)
 
 __all__ = [
     "TARGET_TOLERANCE",
@@ -36,6 +45,7 @@ __all__ = [
     "Change",
     "UpgradeCandidate",
     "UpgradeOption",
+    "UpgradeOptions",
     "UpgradePlan",
     "apply_candidates",
     "cheapest_reaching",
@@ -43,8 +53,6 @@ __all__ = [
     "frontier",
 ]
 
-#: Relative allowance when comparing U with a target (round-off only): U ≤ target·(1 + tol).
-TARGET_TOLERANCE = 1e-12
 #: Most candidates a plan takes (a greedy search above ``max_exhaustive``).
 MAX_CANDIDATES = 200
 #: Largest ``max_exhaustive``: 2¹⁶ = 65 536 sets, a few seconds and about 0.2 GB; every
@@ -133,76 +141,26 @@ class UpgradeCandidate:
         return change.standard_uncertainty if isinstance(change, InputQuantity) else float(change)
 
 
-@dataclass(frozen=True)
-class UpgradeOption:
-    """One set of candidates applied together, evaluated (measurand numbers in budget.unit).
-
-    Attributes
-    ----------
-    candidates : tuple of str
-        Names of the candidates in the set, in the order given (``()`` is the baseline).
-    cost : float
-        Sum of their costs. [currency]
-    value : float
-        Estimate y (changes only when a candidate replaces an estimate). [measurand unit]
-    standard_uncertainty : float
-        u_c(y). [measurand unit]
-    effective_dof : float
-        ν_eff before truncation. [1]
-    coverage_factor : float
-        k. [1]
-    expanded_uncertainty : float
-        U = k u_c. [measurand unit]
-    reduction : float
-        U_baseline − U (negative when the set makes things worse). [measurand unit]
-    reduction_per_cost : float
-        reduction / cost; for a free set ±inf (or 0 for no reduction). [measurand unit per currency]
-    dominant : str
-        Input with the largest variance share after the change.
-    reaches_target : bool or None
-        U ≤ target (None without a target).
-    """
-
-    candidates: tuple[str, ...]
-    cost: float
-    value: float
-    standard_uncertainty: float
-    effective_dof: float
-    coverage_factor: float
-    expanded_uncertainty: float
-    reduction: float
-    reduction_per_cost: float
-    dominant: str
-    reaches_target: bool | None
-
-    @property
-    def relative_expanded_uncertainty(self) -> float:
-        """U/|y| (NaN for y = 0)."""
-        return self.expanded_uncertainty / abs(self.value) if self.value != 0 else math.nan
-
-    @property
-    def label(self) -> str:
-        """The candidate names joined with " + ", or "(baseline)"."""
-        return " + ".join(self.candidates) if self.candidates else "(baseline)"
-
-    def reaches(self, target: float | None) -> bool | None:
-        """U ≤ target·(1 + :data:`TARGET_TOLERANCE`), or None without a target."""
-        return (
-            None if target is None else self.expanded_uncertainty <= target * (1 + TARGET_TOLERANCE)
-        )
-
-
-def _rank(o: UpgradeOption) -> tuple[float, float, int]:
-    return (o.expanded_uncertainty, o.cost, len(o.candidates))
+def _columns(options: Iterable[UpgradeOption]) -> tuple[Sequence[UpgradeOption], dict]:
+    """The options as a sequence and their columns (cost, U, reduction, count)."""
+    if isinstance(options, UpgradeOptions):
+        cols = {k: options.column(k) for k in ("cost", "expanded_uncertainty", "reduction",
+                                                "count")}  # fmt: skip
+        return options, cols
+    rows = tuple(options)
+    cols = {k: np.array([getattr(o, k) for o in rows], dtype=float)
+            for k in ("cost", "expanded_uncertainty", "reduction")}  # fmt: skip
+    cols["count"] = np.array([len(o.candidates) for o in rows], dtype=np.int64)
+    return rows, cols
 
 
 def cheapest_reaching(options: Iterable[UpgradeOption], target: float) -> UpgradeOption | None:
     """The cheapest option with U ≤ target (ties: the larger reduction, then fewer
     candidates); None when none reaches it. Round-off allowance :data:`TARGET_TOLERANCE`."""
-    reaching = [o for o in options if o.reaches(target)]
-    if not reaching:
-        return None
-    return min(reaching, key=lambda o: (o.cost, -o.reduction, len(o.candidates)))
+    rows, c = _columns(options)
+    reaching = c["expanded_uncertainty"] <= target * (1 + TARGET_TOLERANCE)
+    at = cheapest_index(c["cost"], c["reduction"], c["count"], reaching)
+    return None if at is None else rows[at]
 
 
 def frontier(options: Iterable[UpgradeOption]) -> tuple[UpgradeOption, ...]:
@@ -213,17 +171,14 @@ def frontier(options: Iterable[UpgradeOption]) -> tuple[UpgradeOption, ...]:
     Examples
     --------
     >>> def o(c, u):
-    ...     return UpgradeOption((), c, 1.0, u, math.inf, 2.0, 2 * u, 0.0, 0.0, "a", None)
+    ...     return UpgradeOption((), c, 1.0, u, float("inf"), 2.0, 2 * u, 0.0, 0.0, "a", None)
     >>> [(x.cost, x.standard_uncertainty) for x in frontier([o(0, 5), o(10, 3), o(20, 3), o(15, 4)])]
     [(0, 5), (10, 3)]
     """
-    best: list[UpgradeOption] = []
-    for opt in sorted(options, key=lambda o: (o.cost, o.expanded_uncertainty, len(o.candidates))):
-        if not best or opt.expanded_uncertainty < best[-1].expanded_uncertainty * (
-            1 - TARGET_TOLERANCE
-        ):
-            best.append(opt)
-    return tuple(best)
+    rows, c = _columns(options)
+    return tuple(
+        rows[i] for i in frontier_indices(c["cost"], c["expanded_uncertainty"], c["count"])
+    )
 
 
 @dataclass(frozen=True)
@@ -235,8 +190,10 @@ class UpgradePlan:
     baseline : BudgetResult
         The budget as it stands (its warnings are the plan's).
     candidates : tuple of UpgradeCandidate
-    options : tuple of UpgradeOption
-        Every set evaluated (all 2ⁿ subsets when exhaustive, baseline included).
+    options : UpgradeOptions
+        Every set evaluated (all 2ⁿ subsets when exhaustive, baseline included): a
+        read-only sequence of :class:`UpgradeOption` that keeps the numbers as arrays and
+        builds a row when it is read (a tuple of options given here is turned into one).
     search : {"exhaustive", "greedy"}
     target : float or None
         Target U in the measurand unit.
@@ -251,12 +208,17 @@ class UpgradePlan:
 
     baseline: BudgetResult
     candidates: tuple[UpgradeCandidate, ...]
-    options: tuple[UpgradeOption, ...]
+    options: UpgradeOptions
     search: Search
     target: float | None
     cheapest: UpgradeOption | None
     greedy_path: tuple[UpgradeOption, ...] = ()
     warnings: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.options, UpgradeOptions):
+            names = [c.name for c in self.candidates]
+            object.__setattr__(self, "options", UpgradeOptions.from_rows(self.options, names))
 
     @property
     def unit(self) -> str:
@@ -265,8 +227,12 @@ class UpgradePlan:
     @property
     def singles(self) -> tuple[UpgradeOption, ...]:
         """The options with exactly one candidate, in candidate order."""
-        by = {o.candidates: o for o in self.options if len(o.candidates) == 1}
-        return tuple(by[(c.name,)] for c in self.candidates if (c.name,) in by)
+        opts = self.options
+        masks = opts.column("masks")
+        by = {}
+        for k in np.flatnonzero(opts.column("count") == 1).tolist():
+            by[int(np.argmax(masks[k]))] = k  # the last of equal sets, as a dict keeps it
+        return tuple(opts[by[j]] for j in range(len(self.candidates)) if j in by)
 
     @property
     def best_per_cost(self) -> UpgradeOption | None:
@@ -279,12 +245,17 @@ class UpgradePlan:
     @property
     def best(self) -> UpgradeOption:
         """The set with the smallest U (ties: the cheaper)."""
-        return min(self.options, key=_rank)
+        return self.ranked[0]
 
     @property
-    def ranked(self) -> tuple[UpgradeOption, ...]:
-        """Every evaluated set, by U, then cost, then number of candidates."""
-        return tuple(sorted(self.options, key=_rank))
+    def ranked(self) -> UpgradeOptions:
+        """Every evaluated set, by U, then cost, then number of candidates (a sequence whose
+        rows are built when read; ties keep the order of :attr:`options`)."""
+        opts = self.options
+        order = np.lexsort(
+            (opts.column("count"), opts.column("cost"), opts.column("expanded_uncertainty"))
+        )
+        return opts.taken(order)
 
     @property
     def frontier(self) -> tuple[UpgradeOption, ...]:
@@ -299,20 +270,21 @@ class UpgradePlan:
         if unknown:
             raise InputError(f"no candidate named {sorted(unknown)[0]!r} (candidates: "
                              f"{', '.join(c.name for c in self.candidates)})")  # fmt: skip
-        for o in self.options:
-            if set(o.candidates) == wanted:
-                return o
+        found = self.options.lookup(wanted)
+        if found is not None:
+            return found
         masks = np.array([[c.name in wanted for c in self.candidates]])
         base = self.baseline
-        return _evaluate(
+        sets = _evaluate(
             base.budget, self.candidates, masks, self.target, base.expanded_uncertainty
-        )[0]
+        )
+        return UpgradeOptions(sets)[0]
 
     def with_target(self, target: float | None) -> UpgradePlan:
         """The same plan judged against another target (no re-evaluation)."""
         if target is not None:
             target = _positive_target(target)
-        options = tuple(replace(o, reaches_target=o.reaches(target)) for o in self.options)
+        options = self.options.judged(target)
         cheapest = cheapest_reaching(options, target) if target is not None else None
         return replace(self, options=options, target=target, cheapest=cheapest)
 
@@ -439,8 +411,9 @@ def _evaluate(
     u_base: float,
     notes: list[str] | None = None,
     known: tuple[str, ...] = (),
-) -> tuple[UpgradeOption, ...]:
-    """Evaluate many candidate sets (boolean masks, shape (S, n)) in one vectorised pass.
+) -> Any:
+    """Evaluate many candidate sets (boolean masks, shape (S, n)) in one vectorised pass:
+    their columns (see :mod:`viscometry.planning.options`).
 
     Every set is checked as a budget with its estimates and uncertainties would be (the
     built-in model's refusals and validity checks, numbers a float cannot hold, the
@@ -487,12 +460,12 @@ def _evaluate(
     )  # fmt: skip
     if notes is not None:
         notes += [n for n in found if n not in notes]
-    return _options(budget, candidates, masks, prop, y, target, u_base)
+    return _sets(budget, candidates, masks, prop, y, target, u_base)
 
 
-def _options(budget, candidates, masks, prop, y_si, target, u_base) -> tuple[UpgradeOption, ...]:  # type: ignore[no-untyped-def]
+def _sets(budget, candidates, masks, prop, y_si, target, u_base):  # type: ignore[no-untyped-def]
+    """The columns of the evaluated sets (measurand numbers in ``budget.unit``)."""
     out_s, out_o = budget.output_scale, budget.output_offset
-    names = [c.name for c in candidates]
     cost = masks.astype(float) @ np.array([c.cost for c in candidates])
     big_u = prop.expanded_uncertainty / out_s
     reduction = u_base - big_u
@@ -501,24 +474,16 @@ def _options(budget, candidates, masks, prop, y_si, target, u_base) -> tuple[Upg
             cost > 0, reduction / np.where(cost > 0, cost, 1.0), np.sign(reduction) * np.inf
         )
     per_cost = np.where((cost == 0) & (reduction == 0), 0.0, per_cost)
-    dom = np.argmax(prop.variance_shares, axis=0)
-    opts = (
-        UpgradeOption(
-            candidates=tuple(nm for nm, m in zip(names, masks[s], strict=True) if m),
-            cost=float(cost[s]),
-            value=float((y_si[s] - out_o) / out_s),
-            standard_uncertainty=float(prop.standard_uncertainty[s] / out_s),
-            effective_dof=float(prop.effective_dof[s]),
-            coverage_factor=float(prop.coverage_factor[s]),
-            expanded_uncertainty=float(big_u[s]),
-            reduction=float(reduction[s]),
-            reduction_per_cost=float(per_cost[s]),
-            dominant=budget.input_names[int(dom[s])],
-            reaches_target=None,
-        )  # fmt: skip
-        for s in range(masks.shape[0])
+    numbers = {
+        "cost": cost, "value": (y_si - out_o) / out_s,
+        "standard_uncertainty": prop.standard_uncertainty / out_s,
+        "effective_dof": prop.effective_dof, "coverage_factor": prop.coverage_factor,
+        "expanded_uncertainty": big_u, "reduction": reduction, "reduction_per_cost": per_cost,
+    }  # fmt: skip
+    dominant = np.argmax(prop.variance_shares, axis=0)
+    return evaluated_sets(
+        [c.name for c in candidates], masks, numbers, dominant, budget.input_names, target
     )
-    return tuple(replace(o, reaches_target=o.reaches(target)) for o in opts)
 
 
 def _check_search(candidates: Sequence[UpgradeCandidate], max_exhaustive: int) -> None:
@@ -613,15 +578,15 @@ def evaluate_upgrades(
         search: Search = "exhaustive"
         idx = np.arange(2**n)
         masks = ((idx[:, None] >> np.arange(n)[None, :]) & 1).astype(bool)
-        options = _evaluate(
+        sets = _evaluate(
             budget, candidates, masks, target, baseline.expanded_uncertainty, notes, known
         )
     else:
         search = "greedy"
-        options, path = _greedy(
+        sets, path = _greedy(
             budget, candidates, target, baseline.expanded_uncertainty, notes, known
         )
-    plan = UpgradePlan(baseline, candidates, options, search, target, None, path,
+    plan = UpgradePlan(baseline, candidates, UpgradeOptions(sets), search, target, None, path,
                        baseline.warnings + tuple(notes))  # fmt: skip
     return plan.with_target(target)
 
@@ -633,22 +598,27 @@ def _greedy(
     u_base: float,
     notes: list[str],
     known: tuple[str, ...],
-) -> tuple[tuple[UpgradeOption, ...], tuple[UpgradeOption, ...]]:
+) -> tuple[Any, tuple[UpgradeOption, ...]]:
+    """The sets the greedy search tries (columns, each set once, in the order first tried)
+    and the rows of the sets it chooses, step by step."""
     n = len(candidates)
     costs = np.array([c.cost for c in candidates])
     current = np.zeros(n, dtype=bool)
-    start = _evaluate(budget, candidates, current[None, :], target, u_base, notes, known)[0]
-    seen: dict[tuple[bool, ...], UpgradeOption] = {tuple(current): start}
-    current_u = start.expanded_uncertainty
+    start = _evaluate(budget, candidates, current[None, :], target, u_base, notes, known)
+    parts = [(start, np.zeros(1, dtype=np.int64))]
+    seen = {current.tobytes()}
+    current_u = float(start.numbers["expanded_uncertainty"][0])
     path: list[UpgradeOption] = []
     while not current.all():
         remaining = np.flatnonzero(~current)
         masks = np.repeat(current[None, :], len(remaining), axis=0)
         masks[np.arange(len(remaining)), remaining] = True
         step = _evaluate(budget, candidates, masks, target, u_base, notes, known)
-        for m, o in zip(masks, step, strict=True):
-            seen.setdefault(tuple(m), o)
-        gain = current_u - np.array([o.expanded_uncertainty for o in step])
+        new = [k for k, m in enumerate(masks) if m.tobytes() not in seen]
+        seen.update(masks[k].tobytes() for k in new)
+        parts.append((step, np.array(new, dtype=np.int64)))
+        big_u = step.numbers["expanded_uncertainty"]
+        gain = current_u - big_u
         if not np.any(gain > 0):
             break
         c = costs[remaining]
@@ -657,6 +627,6 @@ def _greedy(
         per_cost = np.where(gain > 0, per_cost, -np.inf)
         pick = int(np.lexsort((-gain, -per_cost))[0])  # primary: per cost; ties: larger gain
         current = masks[pick].copy()
-        current_u = step[pick].expanded_uncertainty
-        path.append(step[pick])
-    return tuple(seen.values()), tuple(path)
+        current_u = float(big_u[pick])
+        path.append(step.row(pick))
+    return concatenated(parts), tuple(path)
