@@ -37,7 +37,7 @@ import math
 from dataclasses import dataclass
 from typing import Literal
 
-from scipy import stats
+from scipy import special
 
 from viscometry._checks import degrees_of_freedom as _dof
 from viscometry._checks import finite as _finite
@@ -86,14 +86,14 @@ def _in_and_out(
     value: float, u: float, lower: float | None, upper: float | None, dof: float
 ) -> tuple[float, float]:
     """Return ``(p_c, 1 - p_c)``, each computed without cancellation where it is small."""
-    dist = stats.norm if math.isinf(dof) else stats.t
-    shape: tuple[float, ...] = () if math.isinf(dof) else (dof,)
 
+    # Normal or Student t distribution functions from scipy.special (no distribution objects:
+    # scipy.stats costs about a second to import). Both are symmetric: sf(x) = cdf(-x).
     def cdf(x: float) -> float:
-        return float(dist.cdf(x, *shape))
+        return float(special.ndtr(x) if math.isinf(dof) else special.stdtr(dof, x))
 
     def sf(x: float) -> float:
-        return float(dist.sf(x, *shape))
+        return cdf(-x)
 
     # Standardised distances of the limits from the result.
     z_lo = -math.inf if lower is None else (lower - value) / u

@@ -16,7 +16,6 @@ from typing import TYPE_CHECKING
 import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
-from scipy import stats
 
 from viscometry.text import decimals_for, format_percent, format_unit, symbol
 
@@ -77,6 +76,8 @@ def first_order_density(sim: BudgetSimulation, x: np.ndarray) -> np.ndarray:
     G.3 and G.6.4; JCGM 101:2008, 6.4.9), so the first-order interval y ± t_p(ν_eff)·u_c is
     exactly the central 100p % interval of this density.
     """
+    from scipy import stats  # here, not at import: only a drawn chart needs it (slow import)
+
     fo = sim.first_order
     xs = np.asarray(x, dtype=float)
     u = fo.standard_uncertainty
