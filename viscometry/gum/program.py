@@ -120,19 +120,30 @@ class Program:
         """Run the program on the arguments (floats or broadcastable numpy arrays).
 
         Registers are dropped after their last use, so a program on large arrays holds only
-        the arrays still needed.
+        the arrays still needed, and an intermediate float array is overwritten by the step
+        that uses it last where the result has its shape (as numpy does for temporaries in
+        ``a * b * c``). The arguments are never written to.
         """
         if len(args) != self.arguments:
             raise TypeError(f"the program takes {self.arguments} arguments, got {len(args)}")
         regs: list[Any] = list(args)
         append = regs.append
-        for kind, f, a, b, free in self._plan:
+        for kind, f, a, b, free, ufunc, reuse in self._plan:
             if kind == 0:
                 append(f)
-            elif kind == 1:
-                append(f(regs[a]))
+                continue
+            out = regs[reuse] if reuse >= 0 else None
+            if type(out) is not np.ndarray or out.dtype != np.float64:
+                out = None
+            if kind == 1:
+                append(f(regs[a]) if out is None else ufunc(out, out=out))
             else:
-                append(f(regs[a], regs[b]))
+                x, y = regs[a], regs[b]
+                other = y if out is x else x
+                if out is None or (type(other) is np.ndarray and other.shape != out.shape):
+                    append(f(x, y))
+                else:
+                    append(ufunc(x, y, out=out))
             for r in free:
                 regs[r] = None
         return [regs[r] for r in self.outputs]
@@ -212,14 +223,29 @@ def _plan(arguments: int, steps: Sequence[Step], outputs: Sequence[int]) -> tupl
     for step, drop in zip(steps, drops, strict=True):
         op = step[0]
         if op == "int":
-            plan.append((0, step[1], 0, 0, tuple(drop)))
+            plan.append((0, step[1], 0, 0, tuple(drop), None, -1))
         elif op == "float":
-            plan.append((0, float.fromhex(step[1]), 0, 0, tuple(drop)))
-        elif op in UNARY:
-            plan.append((1, UNARY[op], step[1], 0, tuple(drop)))
+            plan.append((0, float.fromhex(step[1]), 0, 0, tuple(drop), None, -1))
         else:
-            plan.append((2, BINARY[op], step[1], step[2], tuple(drop)))
+            ufunc = _IN_PLACE.get(op)
+            # an operand computed by a step (never an argument) and not needed afterwards
+            spare = [r for r in step[1:] if r in drop and r >= arguments] if ufunc else []
+            f = UNARY[op] if op in UNARY else BINARY[op]
+            kind = 1 if op in UNARY else 2
+            a, b = step[1], step[2] if kind == 2 else 0
+            plan.append((kind, f, a, b, tuple(drop), ufunc, spare[0] if spare else -1))
     return tuple(plan)
+
+
+#: The numpy functions that write a result into a spare operand (``out=``); they compute
+#: exactly what :data:`UNARY` and :data:`BINARY` compute. (Powers are left out: ``x**2``
+#: takes numpy's squaring path, ``numpy.power`` the general one.)
+_IN_PLACE: dict[str, Any] = {
+    "neg": np.negative, "exp": np.exp, "log": np.log, "sqrt": np.sqrt, "sin": np.sin,
+    "cos": np.cos, "tan": np.tan, "asin": np.arcsin, "acos": np.arccos, "atan": np.arctan,
+    "abs": np.absolute, "sign": np.sign, "add": np.add, "sub": np.subtract,
+    "mul": np.multiply, "div": np.true_divide,
+}  # fmt: skip
 
 
 # ----------------------------------------------------------------------------- compiler
