@@ -15,8 +15,8 @@ Run:  .venv/bin/python benchmarks/bench_planning.py
     the baseline budget, checks every set as loading a budget would (numbers a float cannot
     hold, plausibility, underflow) and keeps the numbers for rankings; the timed call also
     reads what ``viscometry plan`` prints (the candidates alone, the cost–U frontier, the
-    best reduction per cost, the cheapest set reaching the target). Medians of 15 paired
-    runs in alternating order. Goal: ratio ≤ 2.
+    best reduction per cost, the cheapest set reaching the target). Medians of 21 paired
+    samples of 5 calls each, in alternating order. Goal: ratio ≤ 2.
 
 The budget is the package's invented demo (:func:`viscometry.demo.pressure_capillary_demo_budget`,
 a fictional lab; not measurement data). Its flow time is a Type A evaluation with 5 degrees
@@ -37,7 +37,9 @@ from viscometry.demo import pressure_capillary_demo_budget
 from viscometry.planning import UpgradeCandidate, evaluate_upgrades, working_range
 
 POINTS = 10_000
-PAIRS = 15
+PAIRS = 21
+#: Calls per timed sample (a sample of a few milliseconds is at the mercy of the scheduler).
+CALLS = 5
 #: Exponents of the demo model η = π r⁴ ρ_m g h t / (8 V L), in the budget's input order.
 EXPONENTS = {"r": 4.0, "L": -1.0, "V": -1.0, "h": 1.0, "rho_m": 1.0, "g": 1.0, "t": 1.0}
 
@@ -64,8 +66,9 @@ def paired(ours, theirs, pairs: int = PAIRS) -> tuple[float, float, float]:
         took = {}
         for fn in order:
             t0 = time.perf_counter()
-            fn()
-            took[fn] = time.perf_counter() - t0
+            for _ in range(CALLS):
+                fn()
+            took[fn] = (time.perf_counter() - t0) / CALLS
         t_ours.append(took[ours])
         t_theirs.append(took[theirs])
         ratios.append(took[ours] / took[theirs])
