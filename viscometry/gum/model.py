@@ -35,6 +35,7 @@ from viscometry.errors import ModelError
 from viscometry.gum.formula import expression_size, parse_formula
 from viscometry.gum.inputs import check_name
 from viscometry.gum.program import (
+    COMPILER_VERSION,
     PROGRAM_VERSION,
     Program,
     ProgramError,
@@ -605,7 +606,7 @@ def _simplify(expr: sp.Expr) -> sp.Expr:
 
 
 #: Name and version of a compiled-model entry (part of its key).
-COMPILED_SCHEME = f"viscometry-compiled/{PROGRAM_VERSION}"
+COMPILED_SCHEME = f"viscometry-compiled/{PROGRAM_VERSION}.{COMPILER_VERSION}"
 
 
 def compiled_key(model: MeasurementModel) -> str:

@@ -41,6 +41,7 @@ __all__ = [
     "UnsupportedExpression",
     "compile_expression",
     "PROGRAM_VERSION",
+    "COMPILER_VERSION",
     "MAX_PROGRAM_STEPS",
     "UNARY",
     "BINARY",
@@ -48,6 +49,10 @@ __all__ = [
 
 #: Version of the program format (part of every cached entry; a change invalidates them).
 PROGRAM_VERSION = 1
+#: Version of the compiler: raise it whenever :func:`compile_expression` emits other steps
+#: for the same expression (even steps that differ in rounding only), so that a cached
+#: program always has the bits a fresh compilation would have.
+COMPILER_VERSION = 1
 #: Largest number of steps a program read from data may have (a formula's expression has at
 #: most 20 000 nodes; its gradient program about four steps per node).
 MAX_PROGRAM_STEPS = 400_000
@@ -406,23 +411,28 @@ class _Forward:
             raise UnsupportedExpression(f"the number {expr} is not compiled") from None
 
     def _add(self, terms: Sequence[Any]) -> int:
-        acc: int | None = None
-        for term in terms:
-            negative = False
-            if term.is_Mul:
-                coeff, factors = term.as_coeff_mul()
-                negative = bool(coeff.is_negative)
-                reg = self._product(-coeff if negative else coeff, factors)
-            elif term.is_Number and term.is_negative:
-                negative, reg = True, self.build(-term)
-            else:
-                reg = self.build(term)
-            if acc is None:
-                acc = self.e.neg(reg) if negative else reg
-            else:
+        """A sum; negative terms are subtracted, and the sum starts from its first positive
+        term (a negation would cost one more pass over an array)."""
+        signed = [self._signed(term) for term in terms]
+        first = next((k for k, (negative, _) in enumerate(signed) if not negative), 0)
+        negative, acc = signed[first]
+        if negative:
+            acc = self.e.neg(acc)
+        for k, (negative, reg) in enumerate(signed):
+            if k != first:
                 acc = self.e.emit("sub" if negative else "add", acc, reg)
-        assert acc is not None
         return acc
+
+    def _signed(self, term: Any) -> tuple[bool, int]:
+        """(whether the term is negative, the register of its magnitude)."""
+        if term.is_Mul:
+            coeff, factors = term.as_coeff_mul()
+            if coeff.is_negative:
+                return True, self._product(-coeff, factors)
+            return False, self._product(coeff, factors)
+        if term.is_Number and term.is_negative:
+            return True, self.build(-term)
+        return False, self.build(term)
 
     def _product(self, coeff: Any, factors: Sequence[Any]) -> int:
         """coeff · Π factors, with factors of negative power as one denominator."""
