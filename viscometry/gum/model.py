@@ -1,23 +1,30 @@
-"""Measurement models: a sympy expression over named inputs, with cached derivatives.
+"""Measurement models: a sympy expression over named inputs, compiled once.
 
 A :class:`MeasurementModel` is the measurement function y = f(x₁, …, x_N) of
-JCGM 100:2008, 4.1. Its symbolic first (and, on demand, second) partial derivatives are
-derived once with sympy and lambdified to numpy once; both are cached per expression, so
-re-evaluating a budget with new numbers never re-derives anything.
+JCGM 100:2008, 4.1. :func:`compile_model` compiles it once per process (and per installed
+store, :mod:`viscometry.gum.store`) into a :class:`CompiledModel`: a value program and a
+value-and-gradient program (:mod:`viscometry.gum.program`), the gradient by reverse-mode
+differentiation, so its cost is a small multiple of the value's whatever the number of
+inputs; re-evaluating a budget with new numbers never compiles anything again. The exact
+symbolic partial derivatives, shown in reports and used by the exact checks of
+:mod:`~viscometry.gum.validity`, are derived on request (:meth:`CompiledModel.derivative`),
+by sympy's own rules (:func:`symbolic_derivative`, the same expressions as
+:func:`sympy.diff`, without its cubic cost on long sums and products).
 
 Symbolic work is bounded, so that a short formula cannot keep a command busy for minutes:
 
-* the first derivatives together may have at most :data:`MAX_DERIVATIVE_NODES` tree nodes,
-  else :class:`~viscometry.errors.ModelError` names their size and the limit;
+* one symbolic first derivative, and all of them together (:attr:`CompiledModel.derivatives`),
+  may have at most :data:`MAX_DERIVATIVE_NODES` tree nodes, else
+  :class:`~viscometry.errors.ModelError` names their size and the limit (the compiled
+  gradient needs no symbolic derivative, so evaluating such a model still works);
 * the second and third derivatives of the higher-order terms are derived symbolically only
   while they stay within :data:`SYMBOLIC_HIGHER_ORDER_NODES` nodes; beyond that they are
-  computed by finite differences of the exact (symbolic, lambdified) first derivatives
+  computed by finite differences of the exact first derivatives (the gradient program)
   (:meth:`CompiledModel.higher_order`);
 * simplification for display is tried only on small expressions without nested
   functions (:data:`SIMPLIFY_NODES`), where sympy's ``simplify`` is quick; larger ones
   are shown as derived, with common factors pulled out.
 """
-
 from __future__ import annotations
 
 import functools
@@ -59,11 +66,12 @@ __all__ = [
     "SIMPLIFY_NODES",
 ]
 
-#: Largest total size of a model's first partial derivatives, in sympy tree nodes (see
-#: :func:`~viscometry.gum.formula.expression_size`). Deriving and compiling that many takes
-#: a few seconds; a larger model is refused with a :class:`ModelError`, also in a few
+#: Largest size of a model's symbolic first partial derivatives, one or all together, in
+#: sympy tree nodes (see :func:`~viscometry.gum.formula.expression_size`). Deriving that
+#: many takes a few seconds; more are refused with a :class:`ModelError`, also in a few
 #: seconds. The built-in methods' derivatives have under 1000 nodes, one
-#: ``water_viscosity(T)`` about 17 000, a product of six such calls about 270 000.
+#: ``water_viscosity(T)`` about 17 000, a product of six such calls about 270 000, all
+#: those of a product of 1000 inputs about a million (each about 1000: shown one by one).
 MAX_DERIVATIVE_NODES = 300_000
 #: Largest total size of the symbolic second and third derivatives of the higher-order terms
 #: (JCGM 100:2008, eq. 10), in tree nodes; the built-in methods need under 20 000. A model
