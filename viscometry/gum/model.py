@@ -25,6 +25,7 @@ Symbolic work is bounded, so that a short formula cannot keep a command busy for
   functions (:data:`SIMPLIFY_NODES`), where sympy's ``simplify`` is quick; larger ones
   are shown as derived, with common factors pulled out.
 """
+
 from __future__ import annotations
 
 import functools
