@@ -504,19 +504,27 @@ def _archive(tmp_path: Path) -> Path:
     return folder
 
 
-def test_more_jobs_print_the_same_bytes_and_exit_code(tmp_path, capsys, workers_do_the_work):
+def test_more_jobs_print_the_same_bytes_and_exit_code(
+    tmp_path, capsys, monkeypatch, workers_do_the_work
+) -> None:
+    import viscometry.commands.audit as command
+    import viscometry.parallel as parallel
     from viscometry.cli import main
 
     folder = _archive(tmp_path)
     code = {}
     out = {}
-    for jobs in ("1", "2"):
-        code[jobs] = main(["audit", "--jobs", jobs, str(folder)])
+    for jobs in ("1", "2", "2 started ahead"):
+        if jobs == "2 started ahead":  # workers started before the engine is imported
+            monkeypatch.setattr(command, "EARLY_FILES", 1)
+            monkeypatch.setattr(parallel, "READY_WORK", 0.0)
+        code[jobs] = main(["audit", "--jobs", jobs[0], str(folder)])
         captured = capsys.readouterr()
         out[jobs] = captured.out
         assert captured.err == ""  # no progress line: standard error is not a terminal
-    assert workers_do_the_work == [28]  # every file but the first two, in a worker
-    assert out["2"] == out["1"] and code["2"] == code["1"] == 2
+    assert workers_do_the_work == [28, 28]  # every file but the first two, in workers
+    assert out["2"] == out["2 started ahead"] == out["1"]
+    assert code["2"] == code["2 started ahead"] == code["1"] == 2
     lines = out["1"].splitlines()
     assert lines[-1] == "30 file(s): 28 match, 1 differs, 1 error"
     assert lines[-3].startswith(f"ERROR    {folder / 'x_damaged.toml'}: missing key format")

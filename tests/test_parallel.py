@@ -17,7 +17,14 @@ import pytest
 
 import viscometry.parallel as parallel
 from viscometry.errors import InputError
-from viscometry.parallel import MAX_JOBS, TerminalProgress, available_cores, check_jobs, map_files
+from viscometry.parallel import (
+    MAX_JOBS,
+    TerminalProgress,
+    Workers,
+    available_cores,
+    check_jobs,
+    map_files,
+)
 
 #: Items that make :func:`_evaluate` fail in its own way.
 RAISES, DIES, WARNS = 5, 7, 3
@@ -103,6 +110,20 @@ def test_workers_import_only_what_the_work_needs(workers_at_once) -> None:
     loaded = map_files(_modules, range(3), jobs=2, on_error=_reason)[-1]
     assert "viscometry" in loaded
     assert not {"pandas", "matplotlib", "ipywidgets", "IPython", "jupyter_client"} & set(loaded)
+
+
+def test_workers_started_ahead_are_used_or_ended(monkeypatch) -> None:
+    monkeypatch.setattr(parallel, "READY_WORK", 0.0)
+    with Workers(1) as none:
+        assert not none.ready
+    with Workers(2, warm_up=("viscometry.audit", "warm_up")) as unused:
+        processes = list(unused._pool[0]._processes.values())
+    assert not unused.ready and processes and not any(p.is_alive() for p in processes)
+    with Workers(2, warm_up=("viscometry.audit", "warm_up")) as ready:
+        items = [i for i in range(12) if i not in (RAISES, DIES, WARNS)]
+        results = map_files(_evaluate, items, jobs=2, on_error=_reason, workers=ready)
+        assert not ready.ready  # taken (and ended) by map_files
+    assert [r[0] for r in results] == [i * i for i in items]
 
 
 def _terminal() -> tuple[io.TextIOWrapper, int]:

@@ -36,6 +36,11 @@ readable, over the size limit, not UTF-8, not valid TOML, empty or only comments
 ``error`` (exit code 2) — unless ``skip_damaged`` lists it as skipped. A file whose ``format``
 names a budget format (also another version such as ``viscometry-budget/2``) is always
 audited. At most :data:`MAX_SCAN_ENTRIES` folder entries are looked at below one folder.
+
+Files are evaluated on every core (:func:`run_audit`'s ``jobs``, through
+:func:`viscometry.parallel.map_files`): the folder search and the order of the verdicts are
+the same for any number of processes, a short audit starts no worker process, and a file
+whose evaluation fails unexpectedly or kills its worker is an ``error`` verdict of its own.
 """
 
 from __future__ import annotations
@@ -45,7 +50,7 @@ import os
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.gum.rounding import round_result
@@ -53,6 +58,9 @@ from viscometry.io.chain import CHAIN_FORMAT
 from viscometry.io.reader import BudgetFile, load_budget, parse_toml, read_text_file
 from viscometry.io.schema import FORMAT, TOP_KEYS
 from viscometry.text import one_line, statement
+
+if TYPE_CHECKING:
+    from viscometry.parallel import Workers
 
 __all__ = [
     "AUDIT_COLUMNS",
@@ -72,6 +80,7 @@ __all__ = [
     "fingerprint_status",
     "run_audit",
     "scan_paths",
+    "warm_up",
 ]
 
 #: The verdicts, in order of severity, with the exit code of ``viscometry audit``.
@@ -516,6 +525,7 @@ def run_audit(
     skip_damaged: bool = False,
     jobs: int | None = None,
     progress: Callable[[int, int], None] | None = None,
+    workers: Workers | None = None,
 ) -> AuditRun:
     """Audit budget files and folders; list what a folder search left out and why.
 
@@ -537,6 +547,9 @@ def run_audit(
     progress : callable, optional
         ``progress(done, total)`` as files are evaluated
         (e.g. :class:`viscometry.parallel.TerminalProgress`).
+    workers : viscometry.parallel.Workers, optional
+        Worker processes started ahead (the command line starts them, with
+        :func:`warm_up`, before it imports this module when a folder holds many files).
 
     Returns
     -------
@@ -568,7 +581,9 @@ def run_audit(
     jobs = check_jobs(jobs)
     scan = scan_paths(paths, skip_damaged=skip_damaged)
     damaged = dict(scan.damaged)
-    evaluated = map_files(audit_file, scan.files, jobs, on_error=_failed, progress=progress)
+    evaluated = map_files(
+        audit_file, scan.files, jobs, on_error=_failed, progress=progress, workers=workers
+    )
     verdicts = []
     for f, v in zip(scan.files, evaluated, strict=True):
         if f in damaged and v.status == "error":
@@ -577,6 +592,52 @@ def run_audit(
             v = replace(v, messages=(*v.messages, note))
         verdicts.append(v)
     return AuditRun(scan.errors + tuple(verdicts), scan.skipped)
+
+
+#: A small budget whose evaluation loads what auditing a file needs (invented numbers).
+_WARM_UP = """
+format = "viscometry-budget/1"
+[measurand]
+name = "y"
+unit = "mm"
+model = "a * b / c + d"
+[inputs.a]
+value = 2.0
+unit = "mm"
+standard_uncertainty = 0.01
+[inputs.b]
+value = 3.0
+unit = "1"
+distribution = "rectangular"
+half_width = 0.02
+[inputs.c]
+unit = "1"
+readings = [4.0, 4.1, 3.9]
+[inputs.d]
+value = 0.5
+unit = "mm"
+expanded_uncertainty = 0.01
+coverage_factor = 2
+[recorded]
+value = 2.0
+expanded_uncertainty = 0.1
+"""
+
+
+def warm_up() -> None:
+    """Load and run what auditing a file needs, on a small budget held in memory (a worker
+    process started ahead runs it while the files are being found).
+
+    Examples
+    --------
+    >>> warm_up()
+    """
+    from viscometry.io.reader import loads_budget
+
+    bf = loads_budget(_WARM_UP, "<warm-up>")
+    result = bf.budget.evaluate()
+    _compare(bf, result)
+    statement(result)
 
 
 def _failed(path: PathLike, reason: str) -> AuditVerdict:

@@ -11,6 +11,10 @@ How :func:`map_files` works
   counted). Worker processes are started only when the work left is estimated at more than
   :data:`PARALLEL_WORK` seconds, about twice what a worker needs to start, so a short audit
   never pays for them; ``jobs=1`` never starts any.
+* **Workers may be started ahead** (:class:`Workers`), e.g. by the command line before it
+  imports the engine and searches the folders, so that they are ready when the files are
+  known; they are used when the work left is estimated at more than :data:`READY_WORK`
+  seconds, and ended otherwise.
 * **The caller works too.** With ``jobs = N`` there are N - 1 workers, and the calling
   process keeps evaluating items from the end of the list while the workers take them from
   the front (chunks of about :data:`CHUNK_SECONDS` of work), so the seconds a worker needs to
@@ -52,7 +56,9 @@ __all__ = [
     "CHUNK_SECONDS",
     "MAX_JOBS",
     "PARALLEL_WORK",
+    "READY_WORK",
     "TerminalProgress",
+    "Workers",
     "available_cores",
     "check_jobs",
     "map_files",
@@ -67,6 +73,8 @@ MAX_JOBS = 61
 #: Estimated seconds of work left above which worker processes are started (about twice the
 #: time a 'spawn' worker needs to import the engine; measured with benchmarks/bench_audit.py).
 PARALLEL_WORK = 2.0
+#: The same for workers started ahead (:class:`Workers`): handing items over costs little.
+READY_WORK = 0.2
 #: Seconds of work given to a worker at a time (fewer round trips for quick items; small
 #: enough that the calling process and the workers finish together).
 CHUNK_SECONDS = 0.05
@@ -236,6 +244,7 @@ def map_files(
     *,
     on_error: Callable[[T, str], R],
     progress: Callable[[int, int], None] | None = None,
+    workers: Workers | None = None,
 ) -> list[R]:
     """``[fn(item) for item in items]``, spread over ``jobs`` processes, in the order given.
 
@@ -257,6 +266,9 @@ def map_files(
     progress : callable, optional
         ``progress(done, total)``, called in this process as items finish (e.g. a
         :class:`TerminalProgress`).
+    workers : Workers, optional
+        Worker processes started ahead; used (and then ended) when the work left pays for
+        them, else left to their ``with`` block to end.
 
     Returns
     -------
@@ -280,10 +292,13 @@ def map_files(
         jobs = 1  # a worker never starts workers of its own
     run = _Run(fn, work, on_error, progress)
     run.report()
+    ready = workers if workers is not None and workers.ready else None
+    threshold = READY_WORK if ready is not None else PARALLEL_WORK
     measured: list[float] = []  # seconds per item, the first item (imports, caches) left out
     for i in range(len(work)):
-        if jobs > 1 and measured and _worth_starting(measured, len(work) - i):
-            run.in_parallel(list(range(i, len(work))), jobs, sum(measured) / len(measured))
+        if jobs > 1 and measured and _worth_starting(measured, len(work) - i, threshold):
+            per_item = sum(measured) / len(measured)
+            run.in_parallel(list(range(i, len(work))), jobs, per_item, ready)
             break
         t0 = time.perf_counter()
         run.here(i)
@@ -292,9 +307,9 @@ def map_files(
     return run.results
 
 
-def _worth_starting(measured: Sequence[float], left: int) -> bool:
+def _worth_starting(measured: Sequence[float], left: int, threshold: float) -> bool:
     """Whether the work left (estimated from the items measured so far) pays for workers."""
-    return left >= (2 if WORK_HERE else 1) and sum(measured) / len(measured) * left >= PARALLEL_WORK
+    return left >= (2 if WORK_HERE else 1) and sum(measured) / len(measured) * left >= threshold
 
 
 def _in_worker() -> bool:
@@ -348,14 +363,24 @@ class _Run:
             kind, value = "error", _failure(exc)
         self.set(i, value if kind == "ok" else self.on_error(self.items[i], value))
 
-    def in_parallel(self, indexes: list[int], jobs: int, seconds_per_item: float) -> None:
+    def in_parallel(self, indexes: list[int], jobs: int, seconds_per_item: float,
+                    ready: Workers | None) -> None:  # fmt: skip
         """Evaluate ``indexes`` with ``jobs - 1`` workers (``jobs`` without :data:`WORK_HERE`)
         and this process; after a worker died, again with fresh workers."""
         size = 1 if seconds_per_item <= 0 else round(CHUNK_SECONDS / seconds_per_item)
         size = max(1, min(size, MAX_CHUNK, len(indexes) // (4 * jobs) or 1))
-        workers = jobs - 1 if WORK_HERE else jobs
+        count = jobs - 1 if WORK_HERE else jobs
+        pool = ready.take() if ready is not None else None
         while indexes:
-            indexes = _with_workers(self, indexes, min(workers, len(indexes)), size)
+            if pool is None:
+                try:
+                    pool = _start_pool(min(count, len(indexes)))
+                except OSError:  # no process can be started (a limit): all here
+                    for i in indexes:
+                        self.here(i)
+                    return
+            indexes = _with_workers(self, indexes, pool, size)
+            pool = None
 
 
 # ------------------------------------------------------------------ worker processes
@@ -418,6 +443,72 @@ def _start_pool(workers: int) -> tuple[Any, Any]:
     return pool, slots
 
 
+def _warm(warm_up: tuple[str, str] | None) -> None:
+    """In a worker started ahead: import a module and call one of its functions."""
+    if warm_up is not None:
+        import importlib
+
+        getattr(importlib.import_module(warm_up[0]), warm_up[1])()
+
+
+class Workers:
+    """Worker processes started ahead of :func:`map_files`, to be ready when the items are.
+
+    Used as a ``with`` block around the work that finds the items (searching folders,
+    importing the engine); the workers start at once, in the background, and run
+    ``warm_up`` (a module name and the name of a function in it, e.g. one that loads what an
+    evaluation needs). :func:`map_files` given them uses them when the work pays for it;
+    leaving the block ends them if it did not. Nothing is started when ``jobs`` is 1.
+
+    Parameters
+    ----------
+    jobs : int, optional
+        As for :func:`map_files` (``jobs - 1`` workers are started).
+    warm_up : (str, str), optional
+        ``(module, function)`` run by each worker once it has started.
+
+    Examples
+    --------
+    >>> with Workers(1) as ready:
+    ...     ready.ready
+    False
+    """
+
+    def __init__(self, jobs: int | None = None, warm_up: tuple[str, str] | None = None) -> None:
+        jobs = check_jobs(jobs)
+        count = jobs - 1 if WORK_HERE else jobs
+        self._pool: tuple[Any, Any] | None = None
+        if jobs > 1 and not _in_worker():
+            try:
+                self._pool = _start_pool(count)
+                for _ in range(count):  # each task starts one more worker process
+                    self._pool[0].submit(_warm, warm_up)
+            except OSError:  # no process can be started now: map_files works without
+                self.close()
+
+    @property
+    def ready(self) -> bool:
+        """Whether workers were started and not yet used."""
+        return self._pool is not None
+
+    def take(self) -> tuple[Any, Any] | None:
+        """The pool and its slots, for one use (then ending them is the taker's job)."""
+        pool, self._pool = self._pool, None
+        return pool
+
+    def close(self) -> None:
+        """End the workers unless they were taken."""
+        pool, self._pool = self._pool, None
+        if pool is not None:
+            _stop(pool[0])
+
+    def __enter__(self) -> Workers:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+
 def _stop(pool: Any) -> None:
     """End a pool's workers now (terminated, then waited for) and its management thread."""
     terminate = getattr(pool, "terminate_workers", None)  # Python 3.14
@@ -455,10 +546,11 @@ class _Inbox:
         return out
 
 
-def _with_workers(run: _Run, indexes: list[int], workers: int, size: int) -> list[int]:
+def _with_workers(run: _Run, indexes: list[int], started: tuple[Any, Any], size: int) -> list[int]:
     """Evaluate ``indexes`` with one pool (and here); return those to evaluate again after
     a worker died (the item it held has been dealt with alone)."""
-    pool, slots = _start_pool(workers)
+    pool, slots = started
+    workers = len(slots)
     try:
         lost = _feed(run, pool, indexes, size)
     except BaseException:

@@ -17,6 +17,7 @@ piped); the line is cleared at the end (:class:`viscometry.parallel.TerminalProg
 from __future__ import annotations
 
 import argparse
+from typing import Any
 
 NAME = "audit"
 HELP = "recompute budget files and compare with their [recorded] results (exit 0 match, 1 differ, 2 error)"
@@ -68,17 +69,60 @@ def run(args: argparse.Namespace) -> int:
     """Audit every file; print a verdict line per file (or JSON). Returns 0, 1 or 2."""
     import sys
 
-    from viscometry import __version__
-    from viscometry.audit import run_audit
-    from viscometry.commands._common import print_json
-    from viscometry.io.json_out import schema
-    from viscometry.parallel import TerminalProgress, check_jobs
-    from viscometry.text import one_line
+    from viscometry.parallel import TerminalProgress, Workers, check_jobs
 
     jobs = check_jobs(args.jobs, "--jobs")
-    with TerminalProgress("auditing", "files", sys.stderr) as bar:  # shown on a terminal only
-        progress = bar if bar.enabled and not args.json else None
-        audit = run_audit(args.paths, skip_damaged=args.skip_damaged, jobs=jobs, progress=progress)
+    # Worker processes start now, in the background, when the folders hold many files, and
+    # load the engine while this process does the same and searches the folders.
+    ahead = jobs if _many_files(args.paths, EARLY_FILES) else 1
+    with Workers(ahead, warm_up=("viscometry.audit", "warm_up")) as ready:
+        from viscometry.audit import run_audit
+
+        with TerminalProgress("auditing", "files", sys.stderr) as bar:  # on a terminal only
+            progress = bar if bar.enabled and not args.json else None
+            audit = run_audit(args.paths, skip_damaged=args.skip_damaged, jobs=jobs,
+                              progress=progress, workers=ready)  # fmt: skip
+    return _show(args, audit)
+
+
+#: Files (names ending in .toml) below the folders from which worker processes are started
+#: before the engine is loaded and the folders searched (a short look, at most
+#: 20 × EARLY_FILES folder entries).
+EARLY_FILES = 200
+
+
+def _many_files(paths: list[str], limit: int) -> bool:
+    """Whether the folders among ``paths`` hold at least ``limit`` names ending in .toml,
+    hidden folders and links to folders left out (a bounded look; a guess, not the search)."""
+    import os
+
+    stack = [p for p in paths if os.path.isdir(p)]
+    found = looked = 0
+    while stack and looked < 20 * limit:
+        try:
+            with os.scandir(stack.pop()) as entries:
+                for entry in entries:
+                    looked += 1
+                    if entry.name.startswith("."):
+                        continue
+                    if entry.is_dir(follow_symlinks=False):
+                        stack.append(entry.path)
+                    elif entry.name.lower().endswith(".toml"):
+                        found += 1
+                        if found >= limit:
+                            return True
+        except OSError:
+            continue
+    return False
+
+
+def _show(args: argparse.Namespace, audit: Any) -> int:
+    """Print the audit (text lines or JSON); returns the exit code."""
+    from viscometry import __version__
+    from viscometry.commands._common import print_json
+    from viscometry.io.json_out import schema
+    from viscometry.text import one_line
+
     verdicts, skipped = audit.verdicts, audit.skipped
     code = audit.exit_code(strict=args.strict)
     if args.json:
