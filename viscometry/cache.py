@@ -24,8 +24,9 @@ Safety
     An entry that is not a regular file (a link, a pipe, a device), larger than
     :data:`MAX_ENTRY_BYTES`, not valid JSON, of another format version, with a wrong
     checksum, for another model or with a malformed program is ignored, and the model is
-    compiled and written anew. A write goes to a temporary file in the cache folder that
-    replaces the entry by :func:`os.replace` (atomic), so a reader never sees a partial
+    compiled and written anew. A write goes through the package's atomic writer
+    (:func:`viscometry.io.atomic.atomic_write_bytes`: a temporary file in the cache folder
+    replaces the entry by :func:`os.replace`), so a reader never sees a partial
     entry and two processes that compile the same model at once both succeed (the last
     rename wins; both wrote the same content). A cache that cannot be read or written
     (read-only folder, full disk) only costs the compilation.
@@ -39,12 +40,12 @@ import json
 import os
 import re
 import stat
-import tempfile
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
 from viscometry.gum.store import set_compiled_store
+from viscometry.io.atomic import atomic_write_bytes
 
 __all__ = ["ENVIRONMENT_VARIABLE", "FORMAT", "DiskStore", "cache_directory", "install_store"]
 
@@ -135,42 +136,37 @@ class DiskStore:
         payload = dict(entry)
         record = {"format": FORMAT, "key": key, "sha256": _digest(payload), "payload": payload}
         data = json.dumps(record, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
-        with contextlib.suppress(OSError, ValueError):
+        with contextlib.suppress(OSError, ValueError):  # OutputError is a ValueError
             self.directory.mkdir(mode=0o700, parents=True, exist_ok=True)
             _replace(path, data.encode("ascii"))
 
 
 def _read_regular(path: Path) -> bytes | None:
     """The bytes of a regular file of at most :data:`MAX_ENTRY_BYTES`, else None (a link,
-    pipe or device is never opened for reading: checked without following links)."""
-    flags = os.O_RDONLY | getattr(os, "O_NOFOLLOW", 0) | getattr(os, "O_NONBLOCK", 0)
+    pipe or device is never opened: checked without following links first)."""
     try:
         if not stat.S_ISREG(os.lstat(path).st_mode):
             return None
-        fd = os.open(path, flags)
+        with open(path, "rb") as handle:
+            st = os.fstat(handle.fileno())
+            if not stat.S_ISREG(st.st_mode) or st.st_size > MAX_ENTRY_BYTES:
+                return None
+            raw = handle.read(MAX_ENTRY_BYTES + 1)
     except FileNotFoundError:
         return None
-    with os.fdopen(fd, "rb") as handle:
-        st = os.fstat(handle.fileno())
-        if not stat.S_ISREG(st.st_mode) or st.st_size > MAX_ENTRY_BYTES:
-            return None
-        raw = handle.read(MAX_ENTRY_BYTES + 1)
     return raw if len(raw) <= MAX_ENTRY_BYTES else None
 
 
 def _replace(path: Path, data: bytes) -> None:
-    """Write a temporary file beside ``path``, fsync it and rename it over ``path``."""
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.stem[:16]}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
+    """Write ``data`` over ``path`` with the package's atomic writer (temporary file, fsync,
+    :func:`os.replace`). A link (which the writer would follow) or a pipe at ``path`` is
+    removed first; a folder there stays, and nothing is written."""
+    with contextlib.suppress(FileNotFoundError):
+        if not stat.S_ISREG(os.lstat(path).st_mode):
+            if path.is_dir() and not path.is_symlink():
+                return
+            path.unlink()
+    atomic_write_bytes(path, data, what="compiled-model cache entry")
 
 
 def install_store(environ: Mapping[str, str] | None = None) -> DiskStore | None:
