@@ -234,3 +234,19 @@ def test_arrays_given_are_never_written_and_reused_temporaries_change_no_bit():
     for i in (0, 17, 999):
         assert compiled.value(float(a[i]), float(b[i])) == value[i]
         assert np.array_equal(compiled.gradient(float(a[i]), float(b[i])), gradient[:, i])
+
+
+def test_higher_order_terms_of_a_long_product_come_from_the_gradient_program():
+    # The symbolic derivatives of a product of 1000 inputs have about a million nodes
+    # together (past MAX_DERIVATIVE_NODES); eq. (10) of JCGM 100:2008 then takes finite
+    # differences of the gradient program, and the first-order u_c is the exact analytic
+    # one (see the flat-ratio test above); the higher-order terms add a little.
+    x = [1.0 + (i % 11) / 100 for i in range(N)]
+    u = [0.0005] * N
+    text = " * ".join(f"x{i}" for i in range(N))
+    result = Budget.from_formula("y", text, _inputs(x, u)).evaluate(higher_order=True)
+    y = math.prod(x)
+    rel = math.sqrt(math.fsum((ui / xi) ** 2 for ui, xi in zip(u, x, strict=True)))
+    assert result.first_order_standard_uncertainty == pytest.approx(y * rel, rel=1e-12)
+    assert result.standard_uncertainty >= result.first_order_standard_uncertainty
+    assert result.standard_uncertainty == pytest.approx(y * rel, rel=1e-3)

@@ -419,12 +419,19 @@ class CompiledModel:
             budget[0] -= expression_size(expr, max(budget[0], 0))
             return budget[0] >= 0
 
-        first = sum(expression_size(d, SYMBOLIC_HIGHER_ORDER_NODES) for d in self.derivatives)
+        first = 0  # size of the first derivatives, derived only while they stay small
+        for i in range(n):
+            try:
+                first += expression_size(self.derivative(i), SYMBOLIC_HIGHER_ORDER_NODES)
+            except ModelError:  # one alone is past MAX_DERIVATIVE_NODES
+                first = SYMBOLIC_HIGHER_ORDER_NODES
+            if 10 * first > SYMBOLIC_HIGHER_ORDER_NODES:
+                break
         second: list[list[sp.Expr]] = [[] for _ in range(n)]
         third: list[list[sp.Expr]] = [[] for _ in range(n)]
         ok = 10 * first <= SYMBOLIC_HIGHER_ORDER_NODES
         for i in range(n * n if ok else 0):
-            second[i // n].append(sp.diff(self.derivatives[i // n], sym[i % n]))
+            second[i // n].append(sp.diff(self.derivative(i // n), sym[i % n]))
             if not within(second[i // n][-1]):
                 ok = False
                 break
