@@ -11,8 +11,11 @@ of ``ROUNDS`` rounds; the two outputs are checked to be byte-identical.
 
 Goal: ``--jobs 2`` at least 1.7x faster than ``--jobs 1`` (needs 2 cores; on one core the
 line says SKIP). Also printed: the per-file cost (``--jobs 1`` time less the time of an audit
-of one file, divided by ``FILES``), and the best ratio two processes could give with that
-start-up (Amdahl: start-up + half the per-file work), which bounds any ``--jobs 2``.
+of one file, divided by ``FILES``); the best ratio two processes could give with that
+start-up (Amdahl: start-up + half the per-file work), which bounds any ``--jobs 2``; and, in
+each round, how much faster two processes that only count in a loop finish than one doing
+the same work twice (``SPIN``: what the machine's cores gave two processes during the run;
+2.0 on two idle cores, less on a machine others use at the same time).
 
 Run: ``.venv/bin/python benchmarks/bench_audit.py [ROUNDS]`` (or ``make bench``).
 """
@@ -32,6 +35,8 @@ FILES = 1000
 ROUNDS = 5
 GOAL = 1.7
 VISCOMETRY = [sys.executable, "-m", "viscometry"]
+#: A process that only counts (about half a second of one core).
+SPIN = [sys.executable, "-c", "x = 0\nfor i in range(15_000_000): x += i"]
 
 
 def _formula(rng: random.Random, names: list[str]) -> str:
@@ -81,6 +86,19 @@ def _run(args: list[str]) -> tuple[float, bytes]:
     return elapsed, proc.stdout
 
 
+def _two_cores() -> float:
+    """Throughput of two counting processes at once against one doing both in turn."""
+    t0 = time.perf_counter()
+    subprocess.run(SPIN, check=True)
+    subprocess.run(SPIN, check=True)
+    one_after_other = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    both = [subprocess.Popen(SPIN) for _ in range(2)]
+    for proc in both:
+        proc.wait()
+    return one_after_other / (time.perf_counter() - t0)
+
+
 def main(rounds: int = ROUNDS) -> None:
     from viscometry.parallel import available_cores
 
@@ -94,13 +112,14 @@ def main(rounds: int = ROUNDS) -> None:
         )
         one = str(folder / "model_0000.toml")
         _run(["audit", "--jobs", "1", str(folder)])  # warm-up (file cache, byte code)
-        times: dict[str, list[float]] = {"1": [], "2": [], "one": []}
+        times: dict[str, list[float]] = {"1": [], "2": [], "one": [], "spin": []}
         outputs: dict[str, bytes] = {}
         for r in range(rounds):
             for jobs in ("1", "2") if r % 2 == 0 else ("2", "1"):
                 elapsed, outputs[jobs] = _run(["audit", "--jobs", jobs, str(folder)])
                 times[jobs].append(elapsed)
             times["one"].append(_run(["audit", "--jobs", "1", one])[0])
+            times["spin"].append(_two_cores())
     t1, t2, t_one = (statistics.median(times[k]) for k in ("1", "2", "one"))
     assert outputs["1"] == outputs["2"], "--jobs 2 printed something else than --jobs 1"
     per_file = (t1 - t_one) / FILES
@@ -110,6 +129,8 @@ def main(rounds: int = ROUNDS) -> None:
     print(f"audit of one file (start-up): {t_one:.2f} s; per-file cost {per_file * 1e3:.1f} ms")
     print(f"audit of {FILES} files: --jobs 1 {t1:.2f} s, --jobs 2 {t2:.2f} s; outputs identical")
     print(f"best possible on 2 cores with this start-up (Amdahl): {ideal:.2f}x")
+    spins = ", ".join(f"{x:.2f}" for x in times["spin"])
+    print(f"two counting processes against one, per round: {spins}x (2.00 on two idle cores)")
     if cores < 2:
         print(f"--jobs 2 vs --jobs 1: {ratio:.2f}x (goal >= {GOAL}x) SKIP: this machine has 1 core")
         return

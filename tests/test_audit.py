@@ -458,7 +458,7 @@ def _audit_or_fail(path):  # type: ignore[no-untyped-def]
 @pytest.fixture
 def workers_do_the_work(monkeypatch: pytest.MonkeyPatch) -> None:
     """Start worker processes whatever the work left, and let them evaluate every file after
-    the first two (which the calling process evaluates to measure them)."""
+    the first three (which the calling process evaluates to measure them)."""
     import viscometry.parallel as parallel
 
     monkeypatch.setattr(parallel, "PARALLEL_WORK", 0.0)
@@ -522,7 +522,7 @@ def test_more_jobs_print_the_same_bytes_and_exit_code(
         captured = capsys.readouterr()
         out[jobs] = captured.out
         assert captured.err == ""  # no progress line: standard error is not a terminal
-    assert workers_do_the_work == [28, 28]  # every file but the first two, in workers
+    assert workers_do_the_work == [27, 27]  # every file but the first three, in workers
     assert out["2"] == out["2 started ahead"] == out["1"]
     assert code["2"] == code["2 started ahead"] == code["1"] == 2
     lines = out["1"].splitlines()
@@ -538,7 +538,7 @@ def test_a_failing_evaluation_is_an_error_line_for_that_file(tmp_path, capsys, m
     from viscometry.cli import main
 
     folder = _folder_with(tmp_path)
-    for name in ("a.toml", "b.toml", _FAILING):
+    for name in ("a.toml", "b.toml", "c.toml", _FAILING):
         shutil.copy(PRIMARY, folder / name)
     monkeypatch.setattr(audit, "audit_file", _audit_or_fail)
     out = {}
@@ -549,7 +549,7 @@ def test_a_failing_evaluation_is_an_error_line_for_that_file(tmp_path, capsys, m
     assert out["2"] == out["1"]
     lines = out["1"].splitlines()
     assert f"ERROR  {folder / _FAILING}: unexpected RuntimeError: simulated fault" in lines
-    assert lines[-1] == "4 file(s): 3 match, 1 error"
+    assert lines[-1] == "5 file(s): 4 match, 1 error"
 
 
 @pytest.mark.parametrize("jobs", ["0", "-3"])

@@ -41,9 +41,9 @@ def _evaluate(item: int) -> tuple[int, int]:
     return item * item, os.getpid()
 
 
-def _modules(item: int) -> list[str]:
-    """The top-level packages this process has imported."""
-    return sorted({name.split(".")[0] for name in sys.modules})
+def _modules(item: int) -> tuple[int, list[str]]:
+    """The process id and the top-level packages this process has imported."""
+    return os.getpid(), sorted({name.split(".")[0] for name in sys.modules})
 
 
 def _reason(item: int, reason: str) -> tuple[str, str]:
@@ -92,11 +92,11 @@ def test_workers_give_the_same_results_in_order_with_faults_per_item(workers_at_
     assert parallel._DIED.startswith("the worker process evaluating it stopped abruptly")
     for i in set(items) - {RAISES, DIES}:
         assert results[i][0] == i * i
-    # the first two items are evaluated here (one to warm up, one to measure), the rest by
+    # the first three items are evaluated here (one to warm up, two to measure), the rest by
     # workers, including those after the one whose worker died
     pids = [r[1] for i, r in enumerate(results) if i not in (RAISES, DIES)]
-    assert set(pids[:2]) == {os.getpid()}
-    assert os.getpid() not in pids[2:] and len(set(pids[2:])) >= 1
+    assert set(pids[:3]) == {os.getpid()}
+    assert os.getpid() not in pids[3:] and len(set(pids[3:])) >= 1
 
 
 def test_the_calling_process_works_too(monkeypatch) -> None:
@@ -107,8 +107,8 @@ def test_the_calling_process_works_too(monkeypatch) -> None:
 
 
 def test_workers_import_only_what_the_work_needs(workers_at_once) -> None:
-    loaded = map_files(_modules, range(3), jobs=2, on_error=_reason)[-1]
-    assert "viscometry" in loaded
+    pid, loaded = map_files(_modules, range(5), jobs=2, on_error=_reason)[-1]
+    assert pid != os.getpid() and "viscometry" in loaded
     assert not {"pandas", "matplotlib", "ipywidgets", "IPython", "jupyter_client"} & set(loaded)
 
 

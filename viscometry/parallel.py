@@ -7,10 +7,12 @@ that evaluates many files one by one. :class:`TerminalProgress` is the one progr
 How :func:`map_files` works
 ---------------------------
 * **Small runs stay in this process.** The calling process evaluates items one after
-  another and measures them (the first item, which pays for imports and caches, is not
-  counted). Worker processes are started only when the work left is estimated at more than
-  :data:`PARALLEL_WORK` seconds, about twice what a worker needs to start, so a short audit
-  never pays for them; ``jobs=1`` never starts any.
+  another and measures the processor time of each (the first item, which pays for imports
+  and caches, is not counted). Worker processes are started only when the work left,
+  estimated from the quickest of the last three items (so that one slow item, e.g. one that
+  loads a module, does not start them), exceeds :data:`PARALLEL_WORK` seconds, about twice
+  what a worker needs to start; so a short audit never pays for them, and ``jobs=1`` never
+  starts any.
 * **Workers may be started ahead** (:class:`Workers`), e.g. by the command line before it
   imports the engine and searches the folders, so that they are ready when the files are
   known; they are used when the work left is estimated at more than :data:`READY_WORK`
@@ -294,22 +296,24 @@ def map_files(
     run.report()
     ready = workers if workers is not None and workers.ready else None
     threshold = READY_WORK if ready is not None else PARALLEL_WORK
-    measured: list[float] = []  # seconds per item, the first item (imports, caches) left out
+    measured: list[float] = []  # processor seconds per item, the first item left out
     for i in range(len(work)):
-        if jobs > 1 and measured and _worth_starting(measured, len(work) - i, threshold):
-            per_item = sum(measured) / len(measured)
-            run.in_parallel(list(range(i, len(work))), jobs, per_item, ready)
+        if jobs > 1 and _worth_starting(measured, len(work) - i, threshold):
+            run.in_parallel(list(range(i, len(work))), jobs, min(measured[-3:]), ready)
             break
-        t0 = time.perf_counter()
+        t0 = time.thread_time()
         run.here(i)
         if i > 0:
-            measured.append(time.perf_counter() - t0)
+            measured.append(time.thread_time() - t0)
     return run.results
 
 
 def _worth_starting(measured: Sequence[float], left: int, threshold: float) -> bool:
-    """Whether the work left (estimated from the items measured so far) pays for workers."""
-    return left >= (2 if WORK_HERE else 1) and sum(measured) / len(measured) * left >= threshold
+    """Whether the work left (estimated from the quickest of the last three items measured,
+    two at least) pays for workers."""
+    if len(measured) < 2 or left < (2 if WORK_HERE else 1):
+        return False
+    return min(measured[-3:]) * left >= threshold
 
 
 def _in_worker() -> bool:
@@ -619,7 +623,11 @@ def _alone(run: _Run, i: int) -> None:
     """Evaluate item ``i`` alone in a fresh worker (it was held by a worker that died)."""
     from concurrent.futures.process import BrokenProcessPool
 
-    pool, _slots = _start_pool(1)
+    try:
+        pool, _slots = _start_pool(1)
+    except OSError:  # no process can be started now
+        run.from_worker(i, ("error", _DIED.split(";")[0], []))
+        return
     try:
         future = pool.submit(_work, run.fn, [(i, run.items[i])])
         try:

@@ -61,7 +61,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         metavar="N",
         help="processes that evaluate files at the same time, this one included (default: "
         "every core this process may use, at most 61; 1: no worker processes); a short audit "
-        "starts none; the output is the same for any N",
+        "starts none; the output is the same for any N; on a terminal a long audit shows "
+        "'auditing N/M files' on standard error while it runs",
     )
 
 
