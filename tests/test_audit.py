@@ -602,3 +602,15 @@ def test_progress_shows_on_a_terminal_only_and_never_with_json(tmp_path, capsys,
     blank = " " * len("auditing 2/2 files")
     assert shown == "\rauditing 0/2 files\rauditing 1/2 files\rauditing 2/2 files\r" + blank + "\r"
     assert text_out.splitlines()[-1] == "2 file(s): 2 match"  # standard output as without it
+
+
+def test_workers_are_started_ahead_only_for_many_files(tmp_path) -> None:
+    from viscometry.commands.audit import _many_files
+
+    folder = _folder_with(tmp_path)
+    (folder / ".git").mkdir()
+    for n in range(3):
+        shutil.copy(PRIMARY, folder / ".git" / f"{n}.toml")  # hidden: not counted
+    (folder / "notes.txt").write_text("x", encoding="utf-8")
+    assert _many_files([str(folder)], 1) and not _many_files([str(folder)], 2)
+    assert _many_files([str(PRIMARY), str(folder)], 2)  # a named file counts

@@ -86,19 +86,21 @@ def run(args: argparse.Namespace) -> int:
     return _show(args, audit)
 
 
-#: Files (names ending in .toml) below the folders from which worker processes are started
-#: before the engine is loaded and the folders searched (a short look, at most
+#: Files (named, or with names ending in .toml below the folders) from which worker processes
+#: are started before the engine is loaded and the folders searched (a short look, at most
 #: 20 × EARLY_FILES folder entries).
 EARLY_FILES = 200
 
 
 def _many_files(paths: list[str], limit: int) -> bool:
-    """Whether the folders among ``paths`` hold at least ``limit`` names ending in .toml,
-    hidden folders and links to folders left out (a bounded look; a guess, not the search)."""
+    """Whether ``paths`` name or hold at least ``limit`` files (in folders: names ending in
+    .toml, hidden folders and links to folders left out; a bounded look, not the search)."""
     import os
 
     stack = [p for p in paths if os.path.isdir(p)]
-    found = looked = 0
+    found, looked = len(paths) - len(stack), 0
+    if found >= limit:
+        return True
     while stack and looked < 20 * limit:
         try:
             with os.scandir(stack.pop()) as entries:
