@@ -129,8 +129,12 @@ def main(rounds: int = ROUNDS) -> None:
     print(f"audit of one file (start-up): {t_one:.2f} s; per-file cost {per_file * 1e3:.1f} ms")
     print(f"audit of {FILES} files: --jobs 1 {t1:.2f} s, --jobs 2 {t2:.2f} s; outputs identical")
     print(f"best possible on 2 cores with this start-up (Amdahl): {ideal:.2f}x")
-    spins = ", ".join(f"{x:.2f}" for x in times["spin"])
-    print(f"two counting processes against one, per round: {spins}x (2.00 on two idle cores)")
+    for r in range(rounds):
+        print(
+            f"  round {r + 1}: --jobs 1 {times['1'][r]:.2f} s, --jobs 2 {times['2'][r]:.2f} s "
+            f"({times['1'][r] / times['2'][r]:.2f}x); two counting processes against one: "
+            f"{times['spin'][r]:.2f}x (2.00 on two idle cores)"
+        )
     if cores < 2:
         print(f"--jobs 2 vs --jobs 1: {ratio:.2f}x (goal >= {GOAL}x) SKIP: this machine has 1 core")
         return

@@ -339,14 +339,26 @@ def in_process_cores_goal(script: Path) -> None:
     print(f"goal: 2-core time ratio <= 0.6   measured: {two:.2f}   {status(two <= 0.6)}")
 
 
+def load() -> str:
+    """The 1-minute load average: other work on the machine takes cores from (c) and (d)."""
+    try:
+        return f"{os.getloadavg()[0]:.2f}"
+    except OSError:  # pragma: no cover - not on Unix
+        return "unknown"
+
+
 def main() -> None:
-    print(f"cores available: {available_cores()} (os.cpu_count() = {os.cpu_count()})")
+    print(
+        f"cores available: {available_cores()} (os.cpu_count() = {os.cpu_count()}); "
+        f"load average {load()}"
+    )
     in_process_goals()
     with tempfile.TemporaryDirectory() as tmp:
         script = Path(tmp) / "hand_written_mc.py"
         script.write_text(script_text())
         whole_process_goals(script)
         in_process_cores_goal(script)
+    print(f"load average at the end: {load()} (this benchmark adds up to 2; more: other work)")
 
 
 if __name__ == "__main__":

@@ -320,6 +320,8 @@ COMPUTED_IMPORTS = {
     "viscometry/cli.py": "subcommand modules found by pkgutil in viscometry/commands",
     "viscometry/_lazy.py": "a package's public names from the literal _LAZY table of its "
     "__init__ (checked by tests/test_startup.py), or its own module files found by pkgutil",
+    "viscometry/parallel.py": "a worker's warm-up, looked up by name in the literal WARM_UPS "
+    "table (an unknown name is refused)",
 }
 
 

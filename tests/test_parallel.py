@@ -116,10 +116,10 @@ def test_workers_started_ahead_are_used_or_ended(monkeypatch) -> None:
     monkeypatch.setattr(parallel, "READY_WORK", 0.0)
     with Workers(1) as none:
         assert not none.ready
-    with Workers(2, warm_up=("viscometry.audit", "warm_up")) as unused:
+    with Workers(2, warm_up="audit") as unused:
         processes = list(unused._pool[0]._processes.values())
     assert not unused.ready and processes and not any(p.is_alive() for p in processes)
-    with Workers(2, warm_up=("viscometry.audit", "warm_up")) as ready:
+    with Workers(2, warm_up="audit") as ready:
         items = [i for i in range(12) if i not in (RAISES, DIES, WARNS)]
         results = map_files(_evaluate, items, jobs=2, on_error=_reason, workers=ready)
         assert not ready.ready  # taken (and ended) by map_files
@@ -179,3 +179,9 @@ def test_progress_waits_and_short_runs_show_nothing() -> None:
     finally:
         stream.close()
         os.close(reader)
+
+
+def test_unknown_warm_up_is_refused_by_name() -> None:
+    """A warm-up is a name from parallel's literal table, never a module path."""
+    with pytest.raises(ValueError, match=r"warm_up: no warm-up named 'os'"):
+        Workers(2, warm_up="os")

@@ -447,12 +447,20 @@ def _start_pool(workers: int) -> tuple[Any, Any]:
     return pool, slots
 
 
-def _warm(warm_up: tuple[str, str] | None) -> None:
-    """In a worker started ahead: import a module and call one of its functions."""
+#: What a worker started ahead may run first, by name: ``(module, function)``. A literal
+#: table, so no module name reaches ``import_module`` from anywhere else.
+WARM_UPS: dict[str, tuple[str, str]] = {
+    "audit": ("viscometry.audit", "warm_up"),
+}
+
+
+def _warm(warm_up: str | None) -> None:
+    """In a worker started ahead: run the warm-up of that name from :data:`WARM_UPS`."""
     if warm_up is not None:
         import importlib
 
-        getattr(importlib.import_module(warm_up[0]), warm_up[1])()
+        module, function = WARM_UPS[warm_up]
+        getattr(importlib.import_module(module), function)()
 
 
 class Workers:
@@ -460,7 +468,7 @@ class Workers:
 
     Used as a ``with`` block around the work that finds the items (searching folders,
     importing the engine); the workers start at once, in the background, and run
-    ``warm_up`` (a module name and the name of a function in it, e.g. one that loads what an
+    ``warm_up`` (the name of an entry of :data:`WARM_UPS`, e.g. one that loads what an
     evaluation needs). :func:`map_files` given them uses them when the work pays for it;
     leaving the block ends them if it did not. Nothing is started when ``jobs`` is 1.
 
@@ -468,8 +476,8 @@ class Workers:
     ----------
     jobs : int, optional
         As for :func:`map_files` (``jobs - 1`` workers are started).
-    warm_up : (str, str), optional
-        ``(module, function)`` run by each worker once it has started.
+    warm_up : str, optional
+        Name of an entry of :data:`WARM_UPS`, run by each worker once it has started.
 
     Examples
     --------
@@ -478,7 +486,9 @@ class Workers:
     False
     """
 
-    def __init__(self, jobs: int | None = None, warm_up: tuple[str, str] | None = None) -> None:
+    def __init__(self, jobs: int | None = None, warm_up: str | None = None) -> None:
+        if warm_up is not None and warm_up not in WARM_UPS:
+            raise ValueError(f"warm_up: no warm-up named {warm_up!r} (known: {sorted(WARM_UPS)})")
         jobs = check_jobs(jobs)
         count = jobs - 1 if WORK_HERE else jobs
         self._pool: tuple[Any, Any] | None = None

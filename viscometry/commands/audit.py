@@ -76,7 +76,7 @@ def run(args: argparse.Namespace) -> int:
     # Worker processes start now, in the background, when the folders hold many files, and
     # load the engine while this process does the same and searches the folders.
     ahead = jobs if _many_files(args.paths, EARLY_FILES) else 1
-    with Workers(ahead, warm_up=("viscometry.audit", "warm_up")) as ready:
+    with Workers(ahead, warm_up="audit") as ready:
         from viscometry.audit import run_audit
 
         with TerminalProgress("auditing", "files", sys.stderr) as bar:  # on a terminal only
