@@ -4,7 +4,8 @@ The core — the engine (``viscometry.gum``), the viscometer models (``viscometr
 the reference data (``viscometry.properties``) and the pure planning, conformity and
 proficiency code — never imports an edge: files (``io``, ``audit``), the command line
 (``cli``, ``commands``), widgets, plotting (``plots``, ``mc_plots``, ``planning_plots``),
-reports or text rendering (``report``, ``text``). Imports inside functions count too; only
+reports or text rendering (``report``, ``text``), the compiled-model cache on disk
+(``cache``) or worker processes (``parallel``). Imports inside functions count too; only
 imports under ``if TYPE_CHECKING:`` (annotations, never run) are ignored. The tests read the
 source with :mod:`ast`; nothing is imported to check it.
 """
@@ -23,7 +24,7 @@ CORE = ("gum", "methods", "properties", "planning", "conformity", "proficiency",
         "_checks", "errors", "units", "demo")  # fmt: skip
 #: The edges the core must never import.
 EDGES = ("io", "audit", "cli", "commands", "widgets", "plots", "mc_plots", "planning_plots",
-         "report", "text", "workspace")  # fmt: skip
+         "report", "text", "workspace", "cache", "parallel")  # fmt: skip
 #: Longest function allowed, in lines of code (its docstring not counted).
 MAX_FUNCTION_LINES = 80
 

@@ -258,11 +258,16 @@ def test_opt_out_and_relocation_by_environment(tmp_path):
     finally:
         set_compiled_store(previous)
     home = Path("~").expanduser()
-    assert cache_directory({}) == home / ".cache" / "viscometry" / "compiled"
-    assert cache_directory({"XDG_CACHE_HOME": "relative"}) == cache_directory({})
-    assert (
-        cache_directory({"XDG_CACHE_HOME": str(tmp_path)}) == tmp_path / "viscometry" / "compiled"
-    )
+    assert cache_directory({}) is None  # off unless asked for
+    assert cache_directory({"VISCOMETRY_CACHE": " "}) is None
+    for on in ("on", "ON", "1", "yes", "true"):
+        on_env = {"VISCOMETRY_CACHE": on}
+        assert cache_directory(on_env) == home / ".cache" / "viscometry" / "compiled"
+        assert cache_directory({**on_env, "XDG_CACHE_HOME": "relative"}) == cache_directory(on_env)
+        assert (
+            cache_directory({**on_env, "XDG_CACHE_HOME": str(tmp_path)})
+            == tmp_path / "viscometry" / "compiled"
+        )
 
 
 def test_opt_out_in_a_process_writes_nothing(tmp_path):
@@ -277,3 +282,23 @@ def test_opt_out_in_a_process_writes_nothing(tmp_path):
         capture_output=True, text=True, timeout=120, check=True,
     )  # fmt: skip
     assert list(tmp_path.iterdir()) == []
+
+
+def test_command_line_uses_the_cache_only_when_asked(tmp_path):
+    """Off by default (nothing under HOME or XDG_CACHE_HOME); a named folder gets an entry."""
+    example = ROOT / "examples" / "primary_capillary_poiseuille.toml"
+    base = {k: v for k, v in os.environ.items() if k != "VISCOMETRY_CACHE"}
+    home = tmp_path / "home"
+    home.mkdir()
+    plain = {**base, "HOME": str(home), "XDG_CACHE_HOME": str(home / "xdg")}
+    command = [sys.executable, "-m", "viscometry", "evaluate", str(example)]
+    first = subprocess.run(
+        command, env=plain, cwd=ROOT, capture_output=True, text=True, timeout=120, check=True
+    )
+    assert list(home.iterdir()) == []
+    asked = {**plain, "VISCOMETRY_CACHE": str(tmp_path / "cache")}
+    second = subprocess.run(
+        command, env=asked, cwd=ROOT, capture_output=True, text=True, timeout=120, check=True
+    )
+    assert [p.suffix for p in (tmp_path / "cache").iterdir()] == [".json"]
+    assert second.stdout == first.stdout

@@ -5,13 +5,18 @@ is done once per model and kept in the user's cache folder, so the next process 
 the same model (the same canonical expression and names, whatever file or workbook it came
 from) reads it instead of compiling it. The engine knows only the store protocol
 (:mod:`viscometry.gum.store`); :func:`install_store` puts a :class:`DiskStore` there. The
-command line and the workbooks' widgets call it.
+command line calls it when ``$VISCOMETRY_CACHE`` is set.
 
-Where
-    ``$VISCOMETRY_CACHE`` if it names a folder; else ``$XDG_CACHE_HOME/viscometry/compiled``
-    (when ``XDG_CACHE_HOME`` is an absolute path); else ``~/.cache/viscometry/compiled``.
-    ``VISCOMETRY_CACHE=off`` (or ``0``, ``no``, ``false``, ``none``) turns the cache off:
-    nothing is read or written, models are compiled in every process.
+Where, and when
+    Off unless asked for. ``$VISCOMETRY_CACHE`` names the folder; ``VISCOMETRY_CACHE=on``
+    (or ``1``, ``yes``, ``true``) uses ``$XDG_CACHE_HOME/viscometry/compiled`` (when
+    ``XDG_CACHE_HOME`` is an absolute path), else ``~/.cache/viscometry/compiled``. Unset,
+    empty or ``off`` (``0``, ``no``, ``false``, ``none``): nothing is read or written, models
+    are compiled in every process. Off by default because compiling is now about as quick as
+    computing an entry's key (a 100-input product/ratio model: about 16 ms cold, 17 ms from
+    the cache; ``benchmarks/bench_compile.py``), and a folder of numbers that later
+    processes trust is one more thing a lab has to protect; it pays for very large models
+    evaluated again and again.
 
 What an entry is
     One JSON file per model, named by the model's SHA-256 key. It holds data only: the
@@ -55,12 +60,13 @@ ENVIRONMENT_VARIABLE = "VISCOMETRY_CACHE"
 FORMAT = "viscometry-compiled-cache/1"
 #: Largest entry file read, in bytes (the largest formula's programs take a few MB).
 MAX_ENTRY_BYTES = 32 * 1024 * 1024
-_OFF = frozenset({"off", "0", "no", "false", "none"})
+_OFF = frozenset({"", "off", "0", "no", "false", "none"})
+_ON = frozenset({"on", "1", "yes", "true"})
 _KEY = re.compile(r"sha256:([0-9a-f]{64})")
 
 
 def cache_directory(environ: Mapping[str, str] | None = None) -> Path | None:
-    """The folder of the compiled-model cache, or None when it is turned off.
+    """The folder of the compiled-model cache, or None when it is off (the default).
 
     Parameters
     ----------
@@ -69,18 +75,20 @@ def cache_directory(environ: Mapping[str, str] | None = None) -> Path | None:
 
     Examples
     --------
+    >>> cache_directory({}) is None
+    True
     >>> cache_directory({"VISCOMETRY_CACHE": "off"}) is None
     True
     >>> str(cache_directory({"VISCOMETRY_CACHE": "/tmp/vc"}))
     '/tmp/vc'
-    >>> str(cache_directory({"XDG_CACHE_HOME": "/var/c"}))
+    >>> str(cache_directory({"VISCOMETRY_CACHE": "on", "XDG_CACHE_HOME": "/var/c"}))
     '/var/c/viscometry/compiled'
     """
     env = os.environ if environ is None else environ
     value = env.get(ENVIRONMENT_VARIABLE, "").strip()
     if value.lower() in _OFF:
         return None
-    if value:
+    if value.lower() not in _ON:
         return Path(value).expanduser()
     xdg = env.get("XDG_CACHE_HOME", "")
     base = Path(xdg) if xdg and os.path.isabs(xdg) else Path("~/.cache").expanduser()

@@ -159,6 +159,10 @@ def _main(argv: Sequence[str] | None) -> int:
         parser.print_help(sys.stderr)
         return 2
     debug = bool(getattr(args, "debug", False))
+    if os.environ.get("VISCOMETRY_CACHE", "").strip():  # the compiled-model cache is opt-in
+        from viscometry.cache import install_store
+
+        install_store()
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", ViscometryWarning)
         try:
