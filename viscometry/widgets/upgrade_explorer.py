@@ -346,7 +346,7 @@ def _sets_part(explorer: UpgradeExplorer, view: UpgradePlan) -> tuple[str, list[
     """The title and the sets of the lower table: the frontier, or every set by U."""
     n = len(view.options)
     if explorer.show_all.value:
-        shown = list(view.ranked)[: explorer.top or n]
+        shown = list(view.ranked[: explorer.top or n])  # rows built only for these
         return f"<b>every set, ranked by U ({len(shown)} of {n} shown)</b>", shown
     shown = list(view.frontier)
     return (
