@@ -9,6 +9,10 @@
 ``glass_capillary_corrected_surface_tension``
     ν = [C (g₂/g₁) cos θ · (1 + S) · t − E/t²] · (1 − α ΔT), with
     S = 2 (1/r_u − 1/r_l) (σ_c/ρ_c − σ_x/ρ_x) / (g₂ h).
+``glass_capillary_thermal_expansion``
+    ν = [C (g₂/g₁) cos θ · (1 + α_g ΔT_c) · t − E/t²] · (1 − α ΔT)
+``glass_capillary_fixed_charge``
+    ν = [C (g₂/g₁) cos θ · (1 + α_g ΔT_c) · (1 − V_c β ΔT_f/(A_l h)) · t − E/t²] · (1 − α ΔT)
 
 The corrections of the last two, and where they come from:
 
@@ -29,12 +33,33 @@ The corrections of the last two, and where they come from:
   factor 1 + S above, to first order in S. This is the surface-tension correction given for
   capillary viscometers in ISO 3105 / ASTM D446 (form from memory; derived here from the
   meniscus pressures). h is the mean driving head.
+* **Temperature of the constant: glass expansion.** For a gravity-driven capillary,
+  C = π g r⁴ h / (8 L V) (Hagen-Poiseuille with the mean head h, the capillary's radius r and
+  length L and the timed volume V). If the glass expands isotropically with the linear
+  coefficient α_g, every length scales by (1 + α_g ΔT_c) and V by (1 + α_g ΔT_c)³, so
+  C(T) = C(T_c)·(1 + α_g ΔT_c) to first order (exponent 4 + 1 − 1 − 3 = 1), ΔT_c the test
+  temperature minus the temperature of the constant (derived here; that the constant of a
+  glass viscometer changes by this small amount with temperature is stated in ISO 3105 /
+  ASTM D446 — from memory). Borosilicate glass has α_g ≈ 3.3·10⁻⁶ K⁻¹ (from memory).
+* **Temperature of the constant: the charge of fixed-charge designs.** A viscometer charged
+  with a fixed volume V_c (e.g. U-tube designs such as the Cannon-Fenske routine, whose charge
+  sits in the lower reservoir) and heated from the filling to the test temperature holds the
+  extra volume V_c β ΔT_f, β the volumetric expansion of the liquid relative to the glass
+  (β_liquid − 3 α_g). It lifts the lower meniscus by V_c β ΔT_f / A_l (A_l the reservoir's
+  cross-section there) and lowers the mean head h by as much, so
+  C = C_cal·(1 − V_c β ΔT_f / (A_l h)) (derived here from the head change; ISO 3105 /
+  ASTM D446 ask fixed-charge designs to be charged so that the volume at the test temperature
+  is the calibrated one — from memory). ΔT_f is (test − filling temperature) in use minus the
+  same at calibration; for a constant determined with a charge filled at its test temperature
+  it is simply test minus filling temperature. Suspended-level designs (Ubbelohde) do not
+  depend on the charge: use ``glass_capillary_thermal_expansion``.
 
 References
 ----------
 ISO 3104 (kinematic viscosity: 7.2 gravity, minimum flow time); ISO 3105 and ASTM D446
 (glass capillary viscometers: kinetic-energy correction E/t², surface-tension correction);
-ASTM D445; E. Hagenbach (1860) for the B/t form.
+ASTM D445; E. Hagenbach (1860) for the B/t form; the temperature dependence of the constant
+derived from the Hagen-Poiseuille law with the geometry scaled by thermal expansion.
 """
 
 from __future__ import annotations
@@ -52,12 +77,23 @@ __all__ = [
     "GLASS_CAPILLARY_HAGENBACH",
     "GLASS_CAPILLARY_CORRECTED",
     "GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION",
+    "GLASS_CAPILLARY_THERMAL_EXPANSION",
+    "GLASS_CAPILLARY_FIXED_CHARGE",
+    "CHARGE_CORRECTION_LIMIT",
+    "charge_volume_factor",
+    "glass_expansion_factor",
     "surface_tension_factor",
 ]
 
 C, t, E, B = symbols("C t E B")
 g1, g2, theta, alpha, dT = symbols("g1 g2 theta alpha dT")
 h, r_u, r_l, sigma_c, rho_c, sigma_x, rho_x = symbols("h r_u r_l sigma_c rho_c sigma_x rho_x")
+alpha_g, dT_c, V_c, beta, dT_f, A_l = symbols("alpha_g dT_c V_c beta dT_f A_l")
+
+#: Largest relative change of the constant by the charge-volume correction before a warning
+#: (our default, no source): beyond it the viscometer was charged far from its test
+#: temperature; recharging at the test temperature is the usual remedy.
+CHARGE_CORRECTION_LIMIT = 0.01
 
 _VALIDITY = (
     "Laminar flow (Re ≈ 1-100 in glass viscometers, common practice, no source), a Newtonian "
@@ -279,4 +315,180 @@ GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION = Method(
     + " Corrections small; the surface-tension factor is first order in S (|S| ≪ 1).",
     context_keys={k: v for k, v in _CONTEXT.items() if not k.startswith("g_")},
     checker=_check_corrected,
+)
+
+
+# ============================================================ temperature of the constant
+_THERMAL_UNITS = {"alpha_g": "1/K", "dT_c": "K"}
+_THERMAL_DESCRIPTIONS = {
+    "alpha_g": "glass_expansion_coefficient: linear thermal expansion coefficient of the "
+    "viscometer glass (borosilicate ≈ 3.3e-6 1/K, from memory)",
+    "dT_c": "constant_temperature_difference: test temperature minus the temperature at which "
+    "the constant was determined (a difference; K or delta_degC)",
+}
+_CHARGE_UNITS = {"V_c": "m^3", "beta": "1/K", "dT_f": "K", "A_l": "m^2", "h": "m"}
+_CHARGE_DESCRIPTIONS = {
+    "V_c": "charge_volume: volume of the fixed charge at the filling temperature",
+    "beta": "liquid_expansion_coefficient: volumetric thermal expansion coefficient of the "
+    "test liquid relative to the glass (β_liquid − 3 α_g)",
+    "dT_f": "filling_temperature_difference: test minus filling temperature, less the same "
+    "difference at calibration (K or delta_degC)",
+    "A_l": "lower_reservoir_area: cross-section of the lower reservoir at the meniscus",
+    "h": "driving_head: mean driving head of the viscometer",
+}
+
+
+def glass_expansion_factor(expansion_coefficient: float, temperature_difference: float) -> float:
+    """Factor C(T)/C(T_c) = 1 + α_g ΔT_c of a glass viscometer's constant.
+
+    Parameters
+    ----------
+    expansion_coefficient : float
+        Linear thermal expansion coefficient α_g of the glass [1/K].
+    temperature_difference : float
+        ΔT_c, test temperature minus the temperature of the constant [K].
+
+    Returns
+    -------
+    float
+        1 + α_g ΔT_c [1].
+
+    Notes
+    -----
+    C = π g r⁴ h/(8 L V) with every length scaled by (1 + α_g ΔT_c) and V by its cube gives
+    C ∝ (1 + α_g ΔT_c)^(4+1−1−3), first order (derived in the module docstring; the effect is
+    stated in ISO 3105 / ASTM D446 — from memory).
+
+    Examples
+    --------
+    >>> round(glass_expansion_factor(3.3e-6, 60.0), 6)  # borosilicate, 20 °C → 80 °C
+    1.000198
+    """
+    return 1.0 + expansion_coefficient * temperature_difference
+
+
+def charge_volume_factor(
+    charge_volume: float,
+    liquid_expansion_coefficient: float,
+    filling_temperature_difference: float,
+    lower_reservoir_area: float,
+    driving_head: float,
+) -> float:
+    """Factor C/C_cal = 1 − V_c β ΔT_f/(A_l h) of a fixed-charge viscometer.
+
+    Parameters
+    ----------
+    charge_volume : float
+        V_c [m³].
+    liquid_expansion_coefficient : float
+        β, volumetric expansion of the liquid relative to the glass [1/K].
+    filling_temperature_difference : float
+        ΔT_f, test minus filling temperature less the same at calibration [K].
+    lower_reservoir_area : float
+        A_l, cross-section of the lower reservoir at the meniscus [m²].
+    driving_head : float
+        Mean driving head h [m].
+
+    Returns
+    -------
+    float
+        1 − V_c β ΔT_f/(A_l h) [1].
+
+    Notes
+    -----
+    The expanded charge V_c β ΔT_f lifts the lower meniscus by V_c β ΔT_f/A_l and lowers the
+    mean head by as much; C is proportional to the mean head (derived here; ISO 3105 /
+    ASTM D446 charging of fixed-volume designs — from memory). First order in the lift over
+    h; for a head that falls by Δh during the timing, integrating the efflux gives a
+    correction larger by the factor 1 + (Δh/h)²/6 (about 2 % for Δh/h = 1/3; exact analytic
+    for a linear fall, checked by integration in the tests).
+
+    Examples
+    --------
+    >>> round(charge_volume_factor(7e-6, 7e-4, 20.0, 3.1e-4, 0.08), 5)
+    0.99605
+    """
+    change = charge_volume * liquid_expansion_coefficient * filling_temperature_difference
+    return 1.0 - change / (lower_reservoir_area * driving_head)
+
+
+def _check_fixed_charge(method: Method, values: Mapping[str, float]) -> list[str]:
+    out = _check_corrected(method, values)
+    f = charge_volume_factor(
+        values["V_c"], values["beta"], values["dT_f"], values["A_l"], values["h"]
+    )
+    if abs(f - 1.0) > CHARGE_CORRECTION_LIMIT:
+        out.append(
+            f"charge-volume correction changes the constant by {100 * (f - 1):+.3g} %, more "
+            f"than {100 * CHARGE_CORRECTION_LIMIT:g} % (our default, no source): the viscometer "
+            "was charged far from its test temperature; recharge it at the test temperature "
+            "(ISO 3105 / ASTM D446 charging instructions, from memory)"
+        )
+    return out
+
+
+_THERMAL_NAMES = _CORRECTED_NAMES + tuple(_THERMAL_UNITS)
+_thermal_core = _corrected_core * (1 + alpha_g * dT_c)
+_THERMAL_REFERENCES = _CORRECTED_REFERENCES + (
+    "Constant of a glass viscometer at another temperature: C(T) = C(T_c)(1 + α_g ΔT_c), "
+    "derived from C = π g r⁴ h/(8 L V) with isotropic glass expansion; the effect is stated "
+    "in ISO 3105 / ASTM D446 (from memory)",
+)
+
+GLASS_CAPILLARY_THERMAL_EXPANSION = Method(
+    name="glass_capillary_thermal_expansion",
+    positive_inputs=("C", "t", "g1", "g2"),
+    title="Glass capillary viscometer with gravity, tilt, bath-temperature corrections and the "
+    "glass expansion of the constant",
+    expression=(_thermal_core * t - E / t**2) * (1 - alpha * dT),
+    input_names=_THERMAL_NAMES,
+    input_units=_pick({**_BASE_UNITS, **_CORRECTION_UNITS, **_THERMAL_UNITS}, _THERMAL_NAMES),
+    input_descriptions=_pick(
+        {**_BASE_DESCRIPTIONS, **_CORRECTION_DESCRIPTIONS, **_THERMAL_DESCRIPTIONS}, _THERMAL_NAMES
+    ),
+    output_name="nu",
+    output_unit="m^2/s",
+    references=_THERMAL_REFERENCES,
+    validity=_VALIDITY + " Corrections small; the glass expands isotropically with a constant "
+    "α_g over ΔT_c (first order in α_g ΔT_c); a suspended-level design or a charge filled at "
+    "the test temperature (else use glass_capillary_fixed_charge).",
+    context_keys={k: v for k, v in _CONTEXT.items() if not k.startswith("g_")},
+    checker=_check_corrected,
+)
+
+_CHARGE_NAMES = _THERMAL_NAMES + tuple(_CHARGE_UNITS)
+
+GLASS_CAPILLARY_FIXED_CHARGE = Method(
+    name="glass_capillary_fixed_charge",
+    positive_inputs=("C", "t", "g1", "g2", "A_l", "h"),
+    title="Fixed-charge glass capillary viscometer with gravity, tilt, bath-temperature, glass "
+    "expansion and charge-volume corrections",
+    expression=(_thermal_core * (1 - V_c * beta * dT_f / (A_l * h)) * t - E / t**2)
+    * (1 - alpha * dT),
+    input_names=_CHARGE_NAMES,
+    input_units=_pick(
+        {**_BASE_UNITS, **_CORRECTION_UNITS, **_THERMAL_UNITS, **_CHARGE_UNITS}, _CHARGE_NAMES
+    ),
+    input_descriptions=_pick(
+        {
+            **_BASE_DESCRIPTIONS,
+            **_CORRECTION_DESCRIPTIONS,
+            **_THERMAL_DESCRIPTIONS,
+            **_CHARGE_DESCRIPTIONS,
+        },
+        _CHARGE_NAMES,
+    ),
+    output_name="nu",
+    output_unit="m^2/s",
+    references=_THERMAL_REFERENCES
+    + (
+        "Fixed-charge designs: C = C_cal(1 − V_c β ΔT_f/(A_l h)), derived from the rise of "
+        "the lower meniscus by the expanded charge; charging of fixed-volume designs in "
+        "ISO 3105 / ASTM D446 (from memory)",
+    ),
+    validity=_VALIDITY + " Corrections small; the expanded charge stays in the lower "
+    "reservoir, of cross-section A_l over the meniscus's travel; the charge-volume factor "
+    f"within {100 * CHARGE_CORRECTION_LIMIT:g} % of 1 (our default).",
+    context_keys={k: v for k, v in _CONTEXT.items() if not k.startswith("g_")},
+    checker=_check_fixed_charge,
 )

@@ -12,6 +12,11 @@ radius are obtained:
     the same with the radius from the mass and length of a mercury thread,
     r² = m_Hg / (π ρ_Hg l_Hg); r⁴ then becomes m_Hg² / (π² ρ_Hg² l_Hg²), so the budget shows
     a relative sensitivity 2 on the thread mass where a measured radius has 4.
+``pressure_capillary_sample_head``
+    the same with the sample's own hydrostatic head added to Δp: the driving pressure goes
+    from p₁ = Δp + ρ g (h_s + Δh_s/2) at the start to p₂ = Δp + ρ g (h_s − Δh_s/2) at the end
+    of the efflux, and the working equation takes its mean effective value, the logarithmic
+    mean p_eff = (p₁ − p₂)/ln(p₁/p₂) = ρ g Δh_s / ln(p₁/p₂) (see :func:`effective_pressure`).
 
 .. caution::
    Mercury is toxic; its vapour and spills are hazardous. Follow local codes, the
@@ -49,6 +54,8 @@ __all__ = [
     "PRESSURE_CAPILLARY",
     "PRESSURE_CAPILLARY_MANOMETER",
     "PRESSURE_CAPILLARY_MERCURY_THREAD",
+    "PRESSURE_CAPILLARY_SAMPLE_HEAD",
+    "effective_pressure",
 ]
 
 _REFERENCES = (
@@ -68,6 +75,7 @@ _VALIDITY = (
 r, dp, t, V, L, n, m, rho = symbols("r dp t V L n m rho")
 rho_m, g, h, rho_air = symbols("rho_m g h rho_air")
 m_Hg, rho_Hg, l_Hg = symbols("m_Hg rho_Hg l_Hg")
+h_s, dh_s = symbols("h_s dh_s")
 
 
 def poiseuille_expression(
@@ -228,4 +236,100 @@ PRESSURE_CAPILLARY_MERCURY_THREAD = Method(
     "toxic; follow local codes and the laboratory's procedures; many laboratories now use "
     "alternatives.",
     checker=_check_thread,
+)
+
+
+# ============================================================ the sample's own head
+def effective_pressure(
+    pressure_difference: float,
+    density: float,
+    local_gravity: float,
+    mean_sample_head: float,
+    sample_head_change: float,
+) -> float:
+    """Mean effective driving pressure with the sample's falling head [Pa].
+
+    Parameters
+    ----------
+    pressure_difference : float
+        Applied Δp across the capillary (gas above the sample minus outlet) [Pa].
+    density : float
+        ρ of the sample [kg/m³].
+    local_gravity : float
+        g [m/s²].
+    mean_sample_head : float
+        h_s, mean height of the sample's free surface above the capillary outlet during the
+        timed efflux [m].
+    sample_head_change : float
+        Δh_s > 0, fall of the free surface during the timed efflux [m].
+
+    Returns
+    -------
+    float
+        p_eff = ρ g Δh_s / ln(p₁/p₂), p₁,₂ = Δp + ρ g (h_s ± Δh_s/2) [Pa].
+
+    Notes
+    -----
+    With Poiseuille flow Q = k p (k = π r⁴/(8 η L)) and a reservoir of constant
+    cross-section A (dh = −Q dt/A), dp/dt = −(ρ g k/A) p, so p falls exponentially and
+    t = (A/(ρ g k)) ln(p₁/p₂) while V = A Δh_s; hence V/t = k p_eff with the logarithmic mean
+    above (exact for quasi-steady Poiseuille flow, derived here). For Δp = 0 it is the
+    logarithmic-mean head of gravity-driven capillaries (common practice, from memory). For
+    small Δh_s, p_eff ≈ p̄ − (ρ g Δh_s)²/(12 p̄), p̄ = Δp + ρ g h_s.
+
+    Examples
+    --------
+    >>> round(effective_pressure(0.0, 1000.0, 9.81, 0.1, 0.01), 2)  # p̄ = 981 Pa, 0.08 % lower
+    980.18
+    """
+    rgd = density * local_gravity * sample_head_change
+    p_mean = pressure_difference + density * local_gravity * mean_sample_head
+    return rgd / math.log((p_mean + rgd / 2.0) / (p_mean - rgd / 2.0))
+
+
+def _check_sample_head(method: Method, values: Mapping[str, float]) -> list[str]:
+    rg = values["rho"] * values["g"]
+    p_end = values["dp"] + rg * (values["h_s"] - values["dh_s"] / 2.0)
+    if not p_end > 0:
+        return [
+            f"driving pressure at the end of the efflux Δp + ρ g (h_s − Δh_s/2) = {p_end:.4g} Pa "
+            "is not positive: the flow would stop or reverse before the timed volume has run "
+            "(the logarithmic mean needs p₁, p₂ > 0)"
+        ]
+    return _checks(method, values["r"], values)
+
+
+_p_start = dp + rho * g * (h_s + dh_s / 2)
+_p_end = dp + rho * g * (h_s - dh_s / 2)
+
+PRESSURE_CAPILLARY_SAMPLE_HEAD = Method(
+    name="pressure_capillary_sample_head",
+    positive_inputs=("r", "g", "dh_s", "t", "V", "L", "rho"),
+    title="Pressure-driven capillary with the sample's own hydrostatic head (mean effective "
+    "head during efflux)",
+    expression=poiseuille_expression(r, rho * g * dh_s / sp.log(_p_start / _p_end)),
+    input_names=("r", "dp", "h_s", "dh_s", "g", "t", "V", "L", "n", "m", "rho"),
+    input_units={"r": "m", "dp": "Pa", "h_s": "m", "dh_s": "m", "g": "m/s^2", **_COMMON_UNITS},
+    input_descriptions={
+        "r": "capillary_radius: mean bore radius of the capillary",
+        "dp": "pressure_difference: driving pressure difference across the capillary "
+        "(applied; gas above the sample minus outlet)",
+        "h_s": "mean_sample_head: mean height of the sample's free surface above the "
+        "capillary outlet during the timed efflux",
+        "dh_s": "sample_head_change: fall of the sample's free surface during the timed efflux",
+        "g": "local_gravity: local acceleration of gravity",
+        **_COMMON_DESCRIPTIONS,
+    },
+    output_name="eta",
+    output_unit="Pa*s",
+    references=_REFERENCES
+    + (
+        "Hydrostatics and quasi-steady Poiseuille flow: driving pressure Δp + ρ g h falling "
+        "exponentially during efflux, mean effective value (p₁ − p₂)/ln(p₁/p₂) (derived here; "
+        "the logarithmic-mean head of gravity capillaries is common practice, from memory)",
+    ),
+    validity=_VALIDITY + " The sample's reservoir has a constant cross-section over the "
+    "timed efflux (head linear in the volume run out); the driving pressure stays positive; "
+    "the kinetic-energy term uses the mean flow rate V/t.",
+    checker=_check_sample_head,
 )
