@@ -21,11 +21,11 @@ PACKAGE = Path(__file__).resolve().parents[1] / "viscometry"
 
 #: The core: modules and packages that must not reach an edge.
 CORE = ("gum", "methods", "properties", "planning", "conformity", "proficiency", "fitting",
-        "_checks", "errors", "units", "demo", "evidence")  # fmt: skip
+        "_checks", "errors", "units", "demo", "evidence", "polymer")  # fmt: skip
 #: The edges the core must never import.
 EDGES = ("io", "audit", "cli", "commands", "widgets", "plots", "mc_plots", "planning_plots",
          "report", "text", "workspace", "cache", "parallel",
-         "evidence_text", "evidence_plots")  # fmt: skip
+         "evidence_text", "evidence_plots", "polymer_text")  # fmt: skip
 #: Longest function allowed, in lines of code (its docstring not counted).
 MAX_FUNCTION_LINES = 80
 
