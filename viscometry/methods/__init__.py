@@ -45,7 +45,11 @@ _LAZY = {
         "shared_temperature_correlation",
     ),
     "viscometry.methods.falling_sphere": ("FALLING_SPHERE", "FALLING_SPHERE_STOKES"),
-    "viscometry.methods.gas_capillary": ("GAS_CAPILLARY", "GAS_CAPILLARY_SLIP"),
+    "viscometry.methods.gas_capillary": (
+        "GAS_CAPILLARY",
+        "GAS_CAPILLARY_SLIP",
+        "GAS_CAPILLARY_COMPRESSIBLE",
+    ),
     "viscometry.methods.glass_capillary": (
         "GLASS_CAPILLARY_CORRECTED",
         "GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION",
@@ -84,6 +88,7 @@ _ORDER = (
     "FALLING_SPHERE_STOKES",
     "GAS_CAPILLARY",
     "GAS_CAPILLARY_SLIP",
+    "GAS_CAPILLARY_COMPRESSIBLE",
 )
 
 

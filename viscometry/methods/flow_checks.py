@@ -29,6 +29,16 @@ threshold                              default    source
 :data:`WALL_RATIO_LIMIT`               0.3        our default for Faxén's series, no source
 :data:`KNUDSEN_CONTINUUM_LIMIT`        0.01       continuum / slip boundary, common practice
 :data:`KNUDSEN_SLIP_LIMIT`             0.1        slip / transition boundary, common practice
+:data:`TURBULENT_REYNOLDS_LIMIT`       4000       start of turbulent pipe flow, common practice,
+                                                  no source (2000-4000: transition)
+:data:`OUTLET_MACH_LIMIT`              0.3        our default, no source (isothermal 1-D gas flow)
+:data:`COMPRESSIBLE_CORRECTION_LIMIT`  5 %        our default, no source
+:data:`OSEEN_REYNOLDS_LIMIT`           1          our default, no source (Oseen's 3Re/16 itself
+                                                  fails beyond)
+:data:`HABERMAN_WALL_RATIO_LIMIT`      0.5        our default, no source (Haberman-Sayre and
+                                                  Bohlin's series agree within 1 % up to it)
+:data:`TERMINAL_VELOCITY_TOLERANCE`    0.1 %      our default, no source
+:data:`END_EFFECT_LIMIT`               1 %        our default, no source
 =====================================  =========  =====================================================
 """
 
@@ -55,6 +65,14 @@ __all__ = [
     "WALL_RATIO_LIMIT",
     "KNUDSEN_CONTINUUM_LIMIT",
     "KNUDSEN_SLIP_LIMIT",
+    "MOLAR_GAS_CONSTANT",
+    "TURBULENT_REYNOLDS_LIMIT",
+    "OUTLET_MACH_LIMIT",
+    "COMPRESSIBLE_CORRECTION_LIMIT",
+    "OSEEN_REYNOLDS_LIMIT",
+    "HABERMAN_WALL_RATIO_LIMIT",
+    "TERMINAL_VELOCITY_TOLERANCE",
+    "END_EFFECT_LIMIT",
     "capillary_reynolds_number",
     "particle_reynolds_number",
     "entrance_length",
@@ -71,6 +89,14 @@ __all__ = [
     "check_particle_reynolds",
     "check_wall_ratio",
     "check_knudsen",
+    "check_flow_regime",
+    "check_outlet_mach",
+    "check_compressible_correction",
+    "check_oseen_limit",
+    "terminal_velocity_distance",
+    "check_terminal_velocity",
+    "end_effect_estimate",
+    "check_end_effects",
     "emit",
 ]
 
@@ -116,6 +142,31 @@ KNUDSEN_SLIP_LIMIT: float = 0.1
 
 #: Molar gas constant R [J/(mol·K)], exact since the 2019 SI (N_A·k, SI Brochure 9th ed.).
 _MOLAR_GAS_CONSTANT = 6.02214076e23 * 1.380649e-23
+#: Molar gas constant R = N_A·k [J/(mol·K)], exact (SI Brochure, 9th ed., 2019).
+MOLAR_GAS_CONSTANT: float = _MOLAR_GAS_CONSTANT
+#: Reynolds number above which pipe flow is taken as turbulent; between
+#: :data:`LAMINAR_REYNOLDS_LIMIT` and this it is in transition (common practice, no source).
+TURBULENT_REYNOLDS_LIMIT: float = 4000.0
+#: Largest outlet Mach number ū₂/√(RT/M) of a gas capillary accepted without a warning (our
+#: default, no source): the isothermal one-dimensional model and its closed form need a slow
+#: flow (the momentum balance becomes singular at β·ū² = RT/M).
+OUTLET_MACH_LIMIT: float = 0.3
+#: Largest gas-acceleration plus entrance correction of a gas capillary, as a fraction of the
+#: result, accepted without a warning (our default, no source).
+COMPRESSIBLE_CORRECTION_LIMIT: float = 0.05
+#: Particle Reynolds number beyond which Oseen's first correction itself fails (our default,
+#: no source; the drag then needs an empirical correlation).
+OSEEN_REYNOLDS_LIMIT: float = 1.0
+#: Largest sphere-to-tube diameter ratio for the Haberman-Sayre wall factor accepted without a
+#: warning (our default, no source: up to it, the closed form and Bohlin's series agree within
+#: 1 %, see :mod:`viscometry.methods.falling_sphere`).
+HABERMAN_WALL_RATIO_LIMIT: float = 0.5
+#: A falling sphere counts as at terminal velocity once within this fraction of it (our
+#: default, no source).
+TERMINAL_VELOCITY_TOLERANCE: float = 1e-3
+#: Largest end effect on a falling sphere's drag at a timing mark (Lorentz/Brenner estimate,
+#: see :func:`end_effect_estimate`) accepted without a warning (our default, no source).
+END_EFFECT_LIMIT: float = 0.01
 
 
 def _positive(value: float, field: str, unit: str) -> float:
@@ -547,8 +598,14 @@ def check_particle_reynolds(reynolds: float, limit: float = PARTICLE_REYNOLDS_LI
     return []
 
 
-def check_wall_ratio(ratio: float, limit: float = WALL_RATIO_LIMIT) -> list[str]:
+def check_wall_ratio(
+    ratio: float,
+    limit: float = WALL_RATIO_LIMIT,
+    wall_model: str = "Faxén's wall-correction series",
+) -> list[str]:
     """Warn when the sphere-to-tube diameter ratio is beyond the wall-correction series' range.
+
+    ``wall_model`` names the correction in the message.
 
     Examples
     --------
@@ -558,8 +615,7 @@ def check_wall_ratio(ratio: float, limit: float = WALL_RATIO_LIMIT) -> list[str]
     x = float(ratio)
     if x > limit:
         return [
-            f"sphere-to-tube diameter ratio {x:.3g} exceeds {limit:g}: Faxén's wall-correction "
-            "series loses accuracy"
+            f"sphere-to-tube diameter ratio {x:.3g} exceeds {limit:g}: {wall_model} loses accuracy"
         ]
     return []
 
@@ -594,6 +650,295 @@ def check_knudsen(
             "use the slip-corrected model (gas_capillary_slip)"
         ]
     return []
+
+
+def check_flow_regime(
+    reynolds: float,
+    laminar_limit: float = LAMINAR_REYNOLDS_LIMIT,
+    turbulent_limit: float = TURBULENT_REYNOLDS_LIMIT,
+) -> list[str]:
+    """Warn when a capillary flow is in transition, and refuse the result when it is turbulent.
+
+    Parameters
+    ----------
+    reynolds : float
+        Re = ρ ū d / η of the capillary flow [1].
+    laminar_limit : float
+        Upper end of laminar pipe flow (default 2000, common practice, no source).
+    turbulent_limit : float
+        Start of turbulent pipe flow (default 4000, common practice, no source).
+
+    Returns
+    -------
+    list of str
+        Nothing up to ``laminar_limit``; a transition warning up to ``turbulent_limit``; beyond
+        it a warning that the laminar model does not apply and the result must not be used.
+
+    Examples
+    --------
+    >>> check_flow_regime(2000.0)
+    []
+    >>> check_flow_regime(3000.0)[0][:35]
+    'Reynolds number 3e+03 is in the lam'
+    >>> check_flow_regime(5000.0)[0][:40]
+    'RESULT NOT VALID: Reynolds number 5e+03 '
+    """
+    re = abs(float(reynolds))
+    if re > turbulent_limit:
+        return [
+            f"RESULT NOT VALID: Reynolds number {re:.3g} is above {turbulent_limit:g}, the flow "
+            "is turbulent and the laminar (Poiseuille) model does not apply at all; do not use "
+            "this result (reduce the pressure difference or the bore)"
+        ]
+    if re > laminar_limit:
+        return [
+            f"Reynolds number {re:.3g} is in the laminar-turbulent transition ({laminar_limit:g}"
+            f" to {turbulent_limit:g}, common practice, no source): the flow may be unsteady or "
+            "partly turbulent and the laminar model biased; reduce the flow rate"
+        ]
+    return []
+
+
+def check_outlet_mach(mach: float, limit: float = OUTLET_MACH_LIMIT) -> list[str]:
+    """Warn when a gas leaves a capillary too fast for the isothermal one-dimensional model.
+
+    Parameters
+    ----------
+    mach : float
+        Outlet Mach number ū₂/√(RT/M), with the isothermal speed of sound √(RT/M) [1].
+    limit : float
+        Default 0.3 (our default, no source).
+
+    Examples
+    --------
+    >>> check_outlet_mach(0.3)
+    []
+    >>> len(check_outlet_mach(0.31))
+    1
+    """
+    ma = abs(float(mach))
+    if ma > limit:
+        return [
+            f"outlet Mach number {ma:.3g} (isothermal) exceeds {limit:g}: the gas cools as it "
+            "accelerates and the isothermal one-dimensional model loses accuracy (our default "
+            "limit, no source)"
+        ]
+    return []
+
+
+def check_compressible_correction(
+    acceleration_fraction: float,
+    entrance_fraction: float,
+    limit: float = COMPRESSIBLE_CORRECTION_LIMIT,
+) -> list[str]:
+    """Report a large gas-acceleration plus entrance correction of a gas capillary.
+
+    Parameters
+    ----------
+    acceleration_fraction : float
+        Gas-acceleration term as a fraction of the result [1].
+    entrance_fraction : float
+        Entrance kinetic-energy term as a fraction of the result [1].
+    limit : float
+        Largest accepted |sum| (default 0.05, our default, no source).
+
+    Examples
+    --------
+    >>> check_compressible_correction(0.02, 0.01)
+    []
+    >>> check_compressible_correction(0.04, 0.02)[0][:48]
+    'gas-acceleration and entrance terms are 6 % of t'
+    """
+    a, e = float(acceleration_fraction), float(entrance_fraction)
+    if abs(a + e) > limit:
+        return [
+            f"gas-acceleration and entrance terms are {100 * (a + e):.3g} % of the result "
+            f"(acceleration {100 * a:.3g} %, entrance {100 * e:.3g} %; limit {100 * limit:g} %, "
+            "our default): they are applied, but their coefficients' uncertainties dominate; "
+            "use a smaller pressure ratio or a longer capillary"
+        ]
+    return []
+
+
+def check_oseen_limit(reynolds: float, limit: float = OSEEN_REYNOLDS_LIMIT) -> list[str]:
+    """Refuse a falling-sphere result whose Reynolds number is beyond Oseen's correction.
+
+    Examples
+    --------
+    >>> check_oseen_limit(1.0)
+    []
+    >>> check_oseen_limit(2.0)[0][:40]
+    'RESULT NOT VALID: particle Reynolds numb'
+    """
+    re = abs(float(reynolds))
+    if re > limit:
+        return [
+            f"RESULT NOT VALID: particle Reynolds number {re:.3g} exceeds {limit:g}: neither "
+            "Stokes' law nor Oseen's first correction (3·Re/16, from memory) holds; use a "
+            "smaller or lighter sphere or a more viscous liquid"
+        ]
+    return []
+
+
+def terminal_velocity_distance(
+    terminal_velocity: float,
+    sphere_radius: float,
+    sphere_density: float,
+    fluid_density: float,
+    dynamic_viscosity: float,
+    tolerance: float = TERMINAL_VELOCITY_TOLERANCE,
+) -> float:
+    """Distance a sphere released at rest falls before it is within ``tolerance`` of v_t [m].
+
+    Parameters
+    ----------
+    terminal_velocity : float
+        v_t [m/s].
+    sphere_radius : float
+        r [m].
+    sphere_density, fluid_density : float
+        ρ_s, ρ_f [kg/m³].
+    dynamic_viscosity : float
+        η [Pa·s].
+    tolerance : float
+        ε: the velocity counts as terminal once v ≥ (1 − ε) v_t (default 0.001).
+
+    Returns
+    -------
+    float
+        x_ε = v_t τ (ln(1/ε) − 1 + ε) [m].
+
+    Notes
+    -----
+    With Stokes' drag and the added mass ½ρ_f V of the sphere, the velocity from rest is
+    v = v_t (1 − e^(−t/τ)), τ = (ρ_s + ρ_f/2) d² / (18 η) (exact analytic for that equation
+    of motion; the added-mass coefficient ½ is exact for a sphere in potential flow, from
+    memory). Integrating gives x_ε. The Basset history force, neglected here, slows the last
+    part of the approach (the deficit then decays like t^(−1/2), from memory), and the wall
+    raises the drag (shortening τ): the estimate is a guide, not a bound.
+
+    Examples
+    --------
+    >>> round(terminal_velocity_distance(0.01, 1e-3, 7800.0, 1260.0, 1.2) * 1e6, 2)  # µm
+    92.24
+    """
+    v = abs(float(terminal_velocity))
+    r = _positive(sphere_radius, "sphere_radius", "m")
+    rho_s = _positive(sphere_density, "sphere_density", "kg/m³")
+    rho_f = _positive(fluid_density, "fluid_density", "kg/m³")
+    eta = _positive(dynamic_viscosity, "dynamic_viscosity", "Pa·s")
+    eps = float(tolerance)
+    if not 0.0 < eps < 1.0:
+        raise InputError(f"tolerance must lie between 0 and 1, got {tolerance!r}")
+    tau = (rho_s + 0.5 * rho_f) * (2.0 * r) ** 2 / (18.0 * eta)
+    return v * tau * (math.log(1.0 / eps) - 1.0 + eps)
+
+
+def check_terminal_velocity(
+    needed_distance: float, release_distance: float, tolerance: float = TERMINAL_VELOCITY_TOLERANCE
+) -> list[str]:
+    """Warn when the first timing mark is nearer the release point than the terminal distance.
+
+    Parameters
+    ----------
+    needed_distance : float
+        x_ε from :func:`terminal_velocity_distance` [m].
+    release_distance : float
+        Distance from the release point (sphere at rest) to the first timing mark [m].
+    tolerance : float
+        The ε used for ``needed_distance`` (for the message only).
+
+    Examples
+    --------
+    >>> check_terminal_velocity(0.01, 0.01)
+    []
+    >>> check_terminal_velocity(0.0101, 0.01)[0][:45]
+    'the sphere falls only 10 mm before the first '
+    """
+    need = float(needed_distance)
+    have = float(release_distance)
+    if have < need:
+        return [
+            f"the sphere falls only {have * 1e3:.3g} mm before the first timing mark, but needs "
+            f"about {need * 1e3:.3g} mm to come within {100 * tolerance:g} % of its terminal "
+            "velocity (Stokes drag with added mass; our default tolerance): release it higher "
+            "or move the first mark down"
+        ]
+    return []
+
+
+def end_effect_estimate(sphere_radius: float, distance: float, free_surface: bool) -> float:
+    """First-order rise of a sphere's drag near a plane end of the liquid, as a fraction [1].
+
+    Parameters
+    ----------
+    sphere_radius : float
+        r [m].
+    distance : float
+        h: distance from the sphere's centre to the end (tube bottom or liquid surface) [m].
+    free_surface : bool
+        True for the liquid's free surface, False for a rigid bottom.
+
+    Returns
+    -------
+    float
+        (9/8)·r/h for a rigid plane (H. A. Lorentz, 1907, from memory), (3/4)·r/h for a free
+        surface (H. Brenner, Chem. Eng. Sci. 16 (1961) 242, from memory).
+
+    Notes
+    -----
+    These are the leading terms for a sphere moving towards an unbounded plane. In a tube the
+    disturbance decays faster with distance, so the estimate is on the cautious side.
+
+    Examples
+    --------
+    >>> end_effect_estimate(1e-3, 0.1125, free_surface=False)
+    0.01
+    """
+    r = _positive(sphere_radius, "sphere_radius", "m")
+    h = _positive(distance, "end_distance", "m")
+    return (0.75 if free_surface else 1.125) * r / h
+
+
+def check_end_effects(
+    sphere_radius: float,
+    bottom_distance: float | None = None,
+    surface_distance: float | None = None,
+    limit: float = END_EFFECT_LIMIT,
+) -> list[str]:
+    """Warn when a timing mark is so near an end of the liquid that the drag rises there.
+
+    Parameters
+    ----------
+    sphere_radius : float
+        r [m].
+    bottom_distance : float or None
+        From the lower timing mark to the tube bottom [m].
+    surface_distance : float or None
+        From the liquid surface to the upper timing mark [m].
+    limit : float
+        Largest accepted :func:`end_effect_estimate` (default 0.01, our default).
+
+    Examples
+    --------
+    >>> check_end_effects(1e-3, bottom_distance=0.1125)
+    []
+    >>> len(check_end_effects(1e-3, bottom_distance=0.11))
+    1
+    """
+    out: list[str] = []
+    ends = (("bottom", bottom_distance, False), ("liquid surface", surface_distance, True))
+    for label, h, free in ends:
+        if h is None:
+            continue
+        effect = end_effect_estimate(sphere_radius, h, free)
+        if effect > limit * (1.0 + 1e-12):
+            out.append(
+                f"a timing mark is {float(h) * 1e3:.4g} mm from the {label}: the drag there is "
+                f"raised by about {100 * effect:.2g} % (plane-end estimate, limit "
+                f"{100 * limit:g} %, our default); move the mark away from the end"
+            )
+    return out
 
 
 def emit(messages: Iterable[str], stacklevel: int = 2) -> None:
