@@ -41,7 +41,7 @@ _WARNINGS = {
 }
 
 _CHECK_WORDS = {
-    "flow_time": ("flow times", "time"),
+    "flow_time": ("flow times", "timing"),
     "determination": ("determinations", "determination"),
     "laboratories": ("laboratories' results", "result"),
 }
@@ -73,24 +73,26 @@ def verdict_statement(verdict: AcceptanceVerdict, unit: str = "") -> str:
     plural, single = _CHECK_WORDS[verdict.check]
     u = unit_suffix(unit) if unit else ""
     n = len(verdict.values)
-    compare = f"range {_n(verdict.spread, 3)}{u} {{}} limit {_n(verdict.limit, 3)}{u}"
+    compare = f"range {_g(verdict.spread, 3)}{u} {{}} limit {_g(verdict.limit, 3)}{u}"
     if verdict.action == "accept":
         return (
             f"accept: the {n} {plural} agree ({compare.format('≤')}); "
-            f"report their mean {_n(verdict.result)}{u}"
+            f"report their mean {_g(verdict.result, 7)}{u}"
         )
     if verdict.action == "repeat":
         more = f"{verdict.more} more {single}{'s' if verdict.more > 1 else ''}"
         return f"repeat: the {n} {plural} differ ({compare.format('>')}); take {more}"
     tail = (
-        f"; if no cause is found, ISO 5725-6 reports the median {_n(verdict.result)}{u}"
+        f"; if no cause is found, ISO 5725-6 reports the median {_g(verdict.result, 7)}{u}"
         if verdict.result is not None
         else ""
     )
-    return (
-        f"investigate: the {n} {plural} differ ({compare.format('>')}); look for the cause "
-        f"before reporting (cleanliness, particles, bubbles, temperature){tail}"
+    causes = (
+        "the laboratories look for the cause together (method, calibration, sample)"
+        if verdict.check == "laboratories"
+        else "look for the cause before reporting (cleanliness, particles, bubbles, temperature)"
     )
+    return f"investigate: the {n} {plural} differ ({compare.format('>')}); {causes}{tail}"
 
 
 def limit_lines(limits: Mapping[str, AcceptanceLimit]) -> list[str]:
@@ -98,11 +100,11 @@ def limit_lines(limits: Mapping[str, AcceptanceLimit]) -> list[str]:
     out = []
     for name, lim in limits.items():
         if lim.exponent == 0:
-            rule = f"{_n(lim.coefficient, 4)} (absolute)"
+            rule = f"{_g(lim.coefficient, 4)} (absolute)"
         elif lim.offset == 0 and lim.exponent == 1:
-            rule = f"{_n(100 * lim.coefficient, 4)} % of the mean"
+            rule = f"{_g(100 * lim.coefficient, 4)} % of the mean"
         else:
-            rule = f"{_n(lim.coefficient, 4)}·(y + {_n(lim.offset, 4)})^{_n(lim.exponent, 3)}"
+            rule = f"{_g(lim.coefficient, 4)}·(y + {_g(lim.offset, 4)})^{_g(lim.exponent, 3)}"
         out.append(f"{one_line(name, 60)}  [{lim.applies_to}]  {rule}")
         if lim.description:
             out.append(f"    {one_line(lim.description, 100)}")
