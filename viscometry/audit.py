@@ -188,6 +188,8 @@ def _by_format(fmt: str) -> tuple[str, str]:
         return "budget", ""
     if fmt.startswith(CHAIN_FORMAT.split("/")[0] + "/"):
         return "other", f"not a budget file (a step-up chain file, format = {_show(fmt)})"
+    if fmt.startswith("viscometry-series/"):
+        return "other", f"not a budget file (a dilution series file, format = {_show(fmt)})"
     if fmt.startswith("viscometry"):
         return "damaged", (
             f"format = {_show(fmt)} names no kind of viscometry file; a budget file has {FORMAT!r}"
