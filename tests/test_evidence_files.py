@@ -67,8 +67,10 @@ HOSTILE_HISTORIES = {
     "too few cells": (HEAD + "date,C,U,k,source\n2020-01-10,0.01,1e-5\n", "row 4: 3 cells"),
     "no format": ("date,C,U,k,source\n" + GOOD, "row 1, column 1: expected format,"),
     "wrong format": ("format,viscometry-history/9\ndate,C,U,k,source\n" + GOOD, "not supported"),
-    "bad unit": (f"format,{HISTORY_FORMAT}\nunit,mm/s\ndate,C,U,k,source\n" + GOOD,
-                 "unit 'mm/s' is not a unit of a viscometer constant"),  # fmt: skip
+    "bad unit": (
+        f"format,{HISTORY_FORMAT}\nunit,mm/s\ndate,C,U,k,source\n" + GOOD,
+        "unit 'mm/s' is not a unit of a viscometer constant",
+    ),  # fmt: skip
     "unknown key": (HEAD + "colour,blue\ndate,C,U,k,source\n", "row 3, column 1: unknown key"),
     "no rows": (HEAD + "date,C,U,k,source\n", "a header but no certificate rows"),
     "no header": (HEAD, "no header row"),
@@ -106,16 +108,22 @@ def test_a_folder_and_a_device_are_refused(tmp_path):
 
 HOSTILE_TIMINGS = {
     "empty": ("", "empty; a timings file starts with"),
-    "one timing": ("format,viscometry-timings/1\ndetermination,flow_time\n1,300.1\n2,300.2\n2,300.3\n",
-                   "determination '1' has one timing"),  # fmt: skip
+    "one timing": (
+        "format,viscometry-timings/1\ndetermination,flow_time\n1,300.1\n2,300.2\n2,300.3\n",
+        "determination '1' has one timing",
+    ),  # fmt: skip
     "split determination": (
         "format,viscometry-timings/1\ndetermination,flow_time\n1,3\n1,3\n2,3\n2,3\n1,3\n",
         "row 7, column determination: '1' appeared before",
     ),
-    "non-number": ("format,viscometry-timings/1\ndetermination,flow_time\n1,abc\n",
-                   "row 3, column flow_time: not a number"),  # fmt: skip
-    "bad constant": ("format,viscometry-timings/1\nconstant,-1\ndetermination,flow_time\n",
-                     "row 2, column constant: must be positive"),  # fmt: skip
+    "non-number": (
+        "format,viscometry-timings/1\ndetermination,flow_time\n1,abc\n",
+        "row 3, column flow_time: not a number",
+    ),  # fmt: skip
+    "bad constant": (
+        "format,viscometry-timings/1\nconstant,-1\ndetermination,flow_time\n",
+        "row 2, column constant: must be positive",
+    ),  # fmt: skip
     "bad header": ("format,viscometry-timings/1\ndetermination,time\n", "header must be"),
 }
 
