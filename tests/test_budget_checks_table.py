@@ -103,6 +103,9 @@ CONVERSIONS = {
     "mean_free_path": ({"value": 65.0, "unit": "nm"}, 6.5e-8),
     "temperature": ({"value": 20.0, "unit": "degC"}, 293.15),
     "molar_mass": ({"value": 28.0134, "unit": "g/mol"}, 0.0280134),
+    "release_distance": ({"value": 5.0, "unit": "cm"}, 0.05),
+    "bottom_distance": ({"value": 2.0, "unit": "dm"}, 0.2),
+    "surface_distance": ({"value": 150.0, "unit": "mm"}, 0.15),
 }
 PAIRS = [(name, key) for name, m in METHODS.items() for key in m.context_keys]
 

@@ -44,7 +44,11 @@ _LAZY = {
         "DYNAMIC_FROM_KINEMATIC_CORRELATED",
         "shared_temperature_correlation",
     ),
-    "viscometry.methods.falling_sphere": ("FALLING_SPHERE", "FALLING_SPHERE_STOKES"),
+    "viscometry.methods.falling_sphere": (
+        "FALLING_SPHERE",
+        "FALLING_SPHERE_STOKES",
+        "FALLING_SPHERE_HABERMAN_SAYRE",
+    ),
     "viscometry.methods.gas_capillary": (
         "GAS_CAPILLARY",
         "GAS_CAPILLARY_SLIP",
@@ -86,6 +90,7 @@ _ORDER = (
     "DYNAMIC_FROM_KINEMATIC_CORRELATED",
     "FALLING_SPHERE",
     "FALLING_SPHERE_STOKES",
+    "FALLING_SPHERE_HABERMAN_SAYRE",
     "GAS_CAPILLARY",
     "GAS_CAPILLARY_SLIP",
     "GAS_CAPILLARY_COMPRESSIBLE",
