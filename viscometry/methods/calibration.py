@@ -48,9 +48,10 @@ from typing import Any
 import sympy as sp
 
 from viscometry.errors import InputError
-from viscometry.gum import Budget, BudgetResult, InputQuantity
+from viscometry.gum import Budget, BudgetResult, Constant, InputQuantity
 from viscometry.methods import flow_checks as fc
 from viscometry.methods.base import Method, symbols
+from viscometry.properties.constants import STANDARD_GRAVITY
 
 __all__ = [
     "CONSTANT_FROM_REFERENCE_LIQUID",
@@ -58,6 +59,9 @@ __all__ = [
     "CONSTANT_BY_COMPARISON",
     "StepUpStep",
     "CertifiedLiquid",
+    "LiquidSurface",
+    "MeniscusGeometry",
+    "SURFACE_TENSION_FACTOR_LIMIT",
     "StepUpChain",
     "step_up_chain",
     "water_reference_input",
@@ -162,6 +166,48 @@ CONSTANT_BY_COMPARISON = Method(
 
 
 # ============================================================================ step-up chain
+#: Largest |S| of a surface-tension factor 1 + S in a chain before a warning (our default, no
+#: source): the factor is first order in S.
+SURFACE_TENSION_FACTOR_LIMIT = 0.01
+#: Name of the constant g [m/s²] in the surface-tension factors of a chain.
+GRAVITY_CONSTANT = "g_n"
+
+
+@dataclass(frozen=True)
+class LiquidSurface:
+    """Surface tension and density of a chain liquid, for the surface-tension terms.
+
+    Parameters
+    ----------
+    surface_tension : InputQuantity
+        σ of the liquid at the calibration temperature [N/m].
+    density : InputQuantity
+        ρ of the liquid at the calibration temperature [kg/m³].
+    """
+
+    surface_tension: InputQuantity
+    density: InputQuantity
+
+
+@dataclass(frozen=True)
+class MeniscusGeometry:
+    """Meniscus geometry of a master viscometer, for the surface-tension terms.
+
+    Parameters
+    ----------
+    upper_radius : InputQuantity
+        r_u, radius of the upper bulb at the meniscus [m].
+    lower_radius : InputQuantity
+        r_l, radius of the lower bulb (or reservoir) at the meniscus [m].
+    driving_head : InputQuantity
+        h, mean driving head [m].
+    """
+
+    upper_radius: InputQuantity
+    lower_radius: InputQuantity
+    driving_head: InputQuantity
+
+
 @dataclass(frozen=True)
 class StepUpStep:
     """One comparison step of a chain: liquid k in the known viscometer k−1 and the new one k.
@@ -179,6 +225,16 @@ class StepUpStep:
         ΔT_k, an independent temperature difference between the two viscometers [K].
     label : str
         Free text (e.g. the liquid's name).
+    surface : LiquidSurface, optional
+        σ_k and ρ_k of the step liquid (inputs ``sigma<k>``, ``rho<k>``): used by the
+        surface-tension terms of this step and of the next one (shared, so correlated).
+    geometry : MeniscusGeometry, optional
+        Meniscus geometry of master k (``r_u<k>``, ``r_l<k>``, ``h<k>``): turns on the
+        surface-tension term where master k measures the next liquid (step k+1 or the
+        certified liquid).
+    kinetic_energy : InputQuantity, optional
+        E_k of master k in ν = C t − E/t² [m²·s] (``E<k>``): used in this step and wherever
+        master k measures again (shared, so correlated).
     """
 
     time_in_known: InputQuantity
@@ -186,11 +242,17 @@ class StepUpStep:
     temperature_coefficient: InputQuantity | None = None
     temperature_difference: InputQuantity | None = None
     label: str = ""
+    surface: LiquidSurface | None = None
+    geometry: MeniscusGeometry | None = None
+    kinetic_energy: InputQuantity | None = None
 
 
 @dataclass(frozen=True)
 class CertifiedLiquid:
     """A liquid measured in the last master of a chain: ν_X = C_N t_X / (1 + α_X δT).
+
+    With the surface-tension and kinetic-energy terms:
+    ν_X = [C_N (1 + S_X) t_X − E_N/t_X²] / (1 + α_X δT).
 
     Parameters
     ----------
@@ -198,10 +260,13 @@ class CertifiedLiquid:
         t_X [s].
     temperature_coefficient : InputQuantity, optional
         α_X [1/K]; needed when the chain has a thermometer error.
+    surface : LiquidSurface, optional
+        σ_X, ρ_X (``sigma_X``, ``rho_X``); needed when master N has a geometry.
     """
 
     flow_time: InputQuantity
     temperature_coefficient: InputQuantity | None = None
+    surface: LiquidSurface | None = None
 
 
 def _renamed(q: InputQuantity, name: str, description: str) -> InputQuantity:
@@ -231,8 +296,9 @@ class StepUpChain:
 
     def constants(self) -> tuple[float, ...]:
         """Estimates of C₁ … C_N [m²/s²]."""
-        x, _u, _nu, _c = self.budget.si_arrays()
+        x, _u, _nu, c = self.budget.si_arrays()
         values = dict(zip(self.budget.input_names, x, strict=True))
+        values.update(zip((k.name for k in self.budget.constants), c, strict=True))
         return _constant_values(self.constant_expressions, values)
 
     def check(self) -> list[str]:
@@ -251,23 +317,58 @@ def _constant_values(
     return tuple(float(e.xreplace(subs)) for e in expressions)
 
 
-def _chain_checker(constants: tuple[sp.Expr, ...], minimum_flow_time: float) -> Any:
+@dataclass(frozen=True)
+class _TermCheck:
+    """A correction term of the chain to check: (label, kind, term, reference) expressions."""
+
+    label: str
+    kind: str  # "kinetic" (term E/t² against ν) or "surface" (S, reference 1)
+    term: sp.Expr
+    reference: sp.Expr
+
+
+def _term_warnings(terms: Sequence[_TermCheck], subs: Mapping[sp.Symbol, float]) -> list[str]:
+    out: list[str] = []
+    for c in terms:
+        term, ref = float(c.term.xreplace(subs)), float(c.reference.xreplace(subs))
+        if c.kind == "kinetic":
+            out += [f"{c.label}: {w}" for w in fc.check_kinetic_energy(term, ref)]
+        elif abs(term) > SURFACE_TENSION_FACTOR_LIMIT:
+            out.append(
+                f"{c.label}: surface-tension factor 1 + S has S = {term:.3g}, beyond "
+                f"±{SURFACE_TENSION_FACTOR_LIMIT:g} (our default, no source): the correction is "
+                "first order in S; check the meniscus radii and the head"
+            )
+    return out
+
+
+def _chain_checker(
+    constants: tuple[sp.Expr, ...], minimum_flow_time: float, terms: tuple[_TermCheck, ...] = ()
+) -> Any:
     def check(method: Method, values: Mapping[str, float]) -> list[str]:
         out: list[str] = []
         for name in method.input_names:
             if name.startswith("t"):
                 found = fc.check_flow_time(float(values[name]), minimum_flow_time)
                 out += [f"{name}: {w}" for w in found]
-        cs = _constant_values(constants, {n: values[n] for n in method.input_names})
+        names = method.input_names + method.constant_names
+        cs = _constant_values(constants, {n: values[n] for n in names})
         for k in range(1, len(cs)):
             out += [f"step {k + 1}: {w}" for w in fc.check_step_ratio(cs[k - 1], cs[k])]
+        if terms:
+            subs = {sp.Symbol(n, real=True): float(values[n]) for n in names}
+            out += _term_warnings(terms, subs)
         return out
 
     return check
 
 
 #: SI unit of each kind of chain input, by the first letters of its name.
-_CHAIN_UNITS = (("nu_w", "m^2/s"), ("dT", "K"), ("alpha", "1/K"), ("t", "s"))
+_CHAIN_UNITS = (
+    ("nu_w", "m^2/s"), ("dT", "K"), ("alpha", "1/K"), ("t", "s"), ("sigma", "N/m"),
+    ("rho", "kg/m^3"), ("r_", "m"), ("h", "m"), ("E", "m^2*s"),
+)  # fmt: skip
+_POSITIVE_PREFIXES = ("t", "rho", "r_", "h")
 
 
 def _chain_model(
@@ -277,21 +378,115 @@ def _chain_model(
     output: str,
     output_unit: str,
     minimum_flow_time: float,
+    terms: tuple[_TermCheck, ...] = (),
+    constant_names: tuple[str, ...] = (),
 ) -> Method:
     """The chain's model: its equation and its checks, as a (non-registry) built-in model."""
     names = tuple(q.name for q in inputs)
     units = {n: next(u for prefix, u in _CHAIN_UNITS if n.startswith(prefix)) for n in names}
+    references = ("ASTM D2162 (step-up procedure)", "ISO 3104 (minimum flow time)")
+    if terms:
+        references += (
+            "ISO 3105 / ASTM D446: kinetic-energy term E/t² and surface-tension correction "
+            "C_x = C_c[1 + (2/(g h))(1/r_u − 1/r_l)(σ_c/ρ_c − σ_x/ρ_x)] (form from memory)",
+        )
     return Method(
         name="step_up_chain",
         title=f"Step-up chain from water, {len(constants)} master viscometer(s)",
         expression=expr, input_names=names, input_units=units,
         input_descriptions={q.name: q.description for q in inputs},
-        output_name=output, output_unit=output_unit,
-        references=("ASTM D2162 (step-up procedure)", "ISO 3104 (minimum flow time)"),
+        output_name=output, output_unit=output_unit, references=references,
         validity="each step within a factor 3 of the last; flow times above the minimum",
-        checker=_chain_checker(constants, minimum_flow_time),
-        positive_inputs=tuple(n for n in names if n == "nu_w" or n.startswith(("t", "tp"))),
+        checker=_chain_checker(constants, minimum_flow_time, terms),
+        constant_names=constant_names,
+        positive_inputs=tuple(
+            n for n in names if n == "nu_w" or n.startswith(_POSITIVE_PREFIXES)
+        ),
     )  # fmt: skip
+
+
+class _Terms:
+    """Work space of :func:`step_up_chain`: the inputs in order and the symbols of the
+    surface-tension and kinetic-energy terms (liquid k's σ/ρ, master j's geometry and E_j),
+    each created once so that every term that shares them is correlated through them."""
+
+    def __init__(self, inputs: list[InputQuantity]) -> None:
+        self.inputs = inputs
+        self.ratio: dict[str, sp.Expr] = {}  # liquid → σ/ρ
+        self.gamma: dict[int, sp.Expr] = {}  # master → 2(1/r_u − 1/r_l)/(g h)
+        self.energy: dict[int, sp.Expr] = {}  # master → E
+        self.unused: dict[str, str] = {}  # symbol group → what it is (until used)
+        self.checks: list[_TermCheck] = []
+
+    def add(self, q: InputQuantity, name: str, description: str) -> sp.Symbol:
+        self.inputs.append(_renamed(q, name, description))
+        return sp.Symbol(name, real=True)
+
+    def surface(self, liquid: str, surface: LiquidSurface | None, what: str) -> None:
+        if surface is None:
+            return
+        if not isinstance(surface, LiquidSurface):
+            raise InputError(f"{what}: surface must be a LiquidSurface, got {surface!r}")
+        sigma = self.add(surface.surface_tension, f"sigma{liquid}", f"surface tension of {what}")
+        rho = self.add(surface.density, f"rho{liquid}", f"density of {what}")
+        self.ratio[liquid] = sigma / rho
+        self.unused[f"liquid {liquid}"] = f"the surface tension and density of {what}"
+
+    def geometry(self, master: int, geometry: MeniscusGeometry | None) -> None:
+        if geometry is None:
+            return
+        if not isinstance(geometry, MeniscusGeometry):
+            raise InputError(f"master {master}: geometry must be a MeniscusGeometry")
+        where = f"of master {master}"
+        r_u = self.add(geometry.upper_radius, f"r_u{master}", f"upper meniscus radius {where}")
+        r_l = self.add(geometry.lower_radius, f"r_l{master}", f"lower meniscus radius {where}")
+        h = self.add(geometry.driving_head, f"h{master}", f"mean driving head {where}")
+        g = sp.Symbol(GRAVITY_CONSTANT, real=True)
+        self.gamma[master] = 2 * (1 / r_u - 1 / r_l) / (g * h)
+        self.unused[f"master {master}"] = f"the meniscus geometry of master {master}"
+
+    def kinetic(self, master: int, q: InputQuantity | None) -> None:
+        if q is not None:
+            e = self.add(q, f"E{master}", f"kinetic-energy constant of master {master}")
+            self.energy[master] = e
+
+    def surface_factor(self, master: int, known: str, new: str, label: str) -> sp.Expr:
+        """S of master ``master`` calibrated with liquid ``known``, used with ``new``."""
+        if master not in self.gamma:
+            return sp.Integer(0)
+        missing = [liq for liq in (known, new) if liq not in self.ratio]
+        if missing:
+            raise InputError(
+                f"{label}: the meniscus geometry of master {master} needs the surface tension "
+                f"and density of the liquids on both sides (missing: {_liquid_names(missing)})"
+            )
+        for key in (f"master {master}", f"liquid {known}", f"liquid {new}"):
+            self.unused.pop(key, None)
+        s = self.gamma[master] * (self.ratio[known] - self.ratio[new])
+        self.checks.append(_TermCheck(label, "surface", s, sp.Integer(1)))
+        return s
+
+    def kinetic_term(self, master: int, time: sp.Expr) -> sp.Expr:
+        """E/t² of ``master`` at ``time`` (0 without E)."""
+        return self.energy[master] / time**2 if master in self.energy else sp.Integer(0)
+
+    def check_kinetic(self, label: str, term: sp.Expr, nu: sp.Expr) -> None:
+        """Check a kinetic-energy term against the viscosity ``nu`` it corrects."""
+        if term != 0:
+            self.checks.append(_TermCheck(label, "kinetic", term, nu))
+
+    def refuse_unused(self) -> None:
+        if self.unused:
+            raise InputError(
+                f"{'; '.join(self.unused.values())}: used by no surface-tension term (a term "
+                "needs the geometry of the master and σ, ρ of the liquids on both sides); "
+                "leave them out"
+            )
+
+
+def _liquid_names(liquids: Sequence[str]) -> str:
+    names = {"_w": "water", "_X": "the certified liquid"}
+    return ", ".join(names.get(liq, f"liquid {liq}") for liq in liquids)
 
 
 def step_up_chain(
@@ -304,6 +499,10 @@ def step_up_chain(
     certified: CertifiedLiquid | None = None,
     unit: str | None = None,
     minimum_flow_time: float = fc.MINIMUM_FLOW_TIME_MANUAL,
+    water_surface: LiquidSurface | None = None,
+    first_master_geometry: MeniscusGeometry | None = None,
+    first_master_kinetic_energy: InputQuantity | None = None,
+    gravity: float = STANDARD_GRAVITY,
     **budget_kw: Any,
 ) -> StepUpChain:
     """Build a step-up chain from water as ONE budget (shared effects counted once).
@@ -317,18 +516,30 @@ def step_up_chain(
         t₁, flow time of water in master 1 [s]. Renamed ``t1``.
     steps : sequence of StepUpStep
         Steps 2 … N. Inputs are renamed ``tp<k>`` (time in the known viscometer), ``t<k>``,
-        ``alpha<k>``, ``dT<k>``.
+        ``alpha<k>``, ``dT<k>`` and, for the optional terms, ``sigma<k>``, ``rho<k>``,
+        ``E<k>``, ``r_u<k>``, ``r_l<k>``, ``h<k>``.
     thermometer_error : InputQuantity, optional
         δT, the bath thermometer's error, shared by all measurements [K]. Renamed ``dT_th``.
     water_temperature_coefficient : InputQuantity, optional
         α_w [1/K] (see :func:`water_temperature_coefficient`); required with
         ``thermometer_error``. Renamed ``alpha_w``.
     certified : CertifiedLiquid, optional
-        Makes the measurand ν_X of a liquid measured in master N (``t_X``, ``alpha_X``).
+        Makes the measurand ν_X of a liquid measured in master N (``t_X``, ``alpha_X``,
+        ``sigma_X``, ``rho_X``).
     unit : str, optional
         Unit of the measurand (default m²/s² for C_N, m²/s for ν_X).
     minimum_flow_time : float
         For the flow-time check [s] (default 200 s, ISO 3104).
+    water_surface : LiquidSurface, optional
+        σ and ρ of water (``sigma_w``, ``rho_w``), for the surface-tension term of step 2.
+    first_master_geometry : MeniscusGeometry, optional
+        Meniscus geometry of master 1 (``r_u1``, ``r_l1``, ``h1``): turns on the
+        surface-tension term of step 2 (water → liquid 2 in master 1).
+    first_master_kinetic_energy : InputQuantity, optional
+        E₁ of master 1 [m²·s] (``E1``), in the water measurement and in step 2.
+    gravity : float
+        g in the surface-tension factors [m/s²] (default standard gravity; the factors are
+        corrections, so g's uncertainty does not matter).
     **budget_kw
         Passed to :meth:`~viscometry.gum.Budget.from_method` (coverage settings, title,
         correlations, rounding).
@@ -340,13 +551,30 @@ def step_up_chain(
     Raises
     ------
     InputError
-        If a temperature coefficient is missing where a temperature effect is given.
+        If a temperature coefficient is missing where a temperature effect is given, a
+        surface-tension term lacks a liquid's σ and ρ, or σ, ρ or a geometry act nowhere.
 
     Notes
     -----
     The model is given in this module's docstring. With every temperature term zero, the
     relative variance of C_N is u_r²(ν_w) + Σ u_r²(t) + α_w² u²(δT) + Σ α_k² u²(ΔT_k); with a
     certified liquid the thermometer term becomes (α_w − α_X)² u²(δT).
+
+    Optional terms (ISO 3105 / ASTM D446 working equation ν = C t − E/t² and its
+    surface-tension correction, form from memory): master j's constant C_j holds for the
+    liquid it was calibrated with (water for j = 1, liquid j otherwise); used with liquid k it
+    becomes C_j (1 + S), S = 2(1/r_u,j − 1/r_l,j)(σ_j/ρ_j − σ_k/ρ_k)/(g h_j). So
+
+    * C₁ = [ν_w (1 + α_w δT) + E₁/t₁²] / t₁,
+    * C_k = [(C_{k−1} (1 + S_k) t′_k − E_{k−1}/t′_k²) τ_k + E_k/t_k²] / t_k, with
+      τ_k = (1 + α_k (δT + ΔT_k))/(1 + α_k δT),
+    * ν_X = [C_N (1 + S_X) t_X − E_N/t_X²] / (1 + α_X δT).
+
+    Each E_j and each liquid's σ, ρ is ONE input, used in every term it enters (E_j where
+    master j measures; σ_k, ρ_k in steps k and k+1), so their correlation between the steps
+    is carried by the model (JCGM 100:2008, F.1.2.3). Without these terms the expressions
+    are exactly those above. Checks: kinetic-energy term above 1 % of a measured ν and
+    |S| above :data:`SURFACE_TENSION_FACTOR_LIMIT` (our defaults, no source).
 
     References
     ----------
@@ -370,48 +598,82 @@ def step_up_chain(
         _renamed(water_value, "nu_w", "water reference kinematic viscosity"),
         _renamed(water_flow_time, "t1", "flow time of water in master 1"),
     ]
+    terms = _Terms(inputs)
     (nu_w, t1s) = symbols("nu_w t1")
     shared: sp.Expr = sp.Integer(0)
-    c_prev: sp.Expr = nu_w / t1s
+    nu_water: sp.Expr = nu_w
     if thermometer_error is not None:
         dT_th, alpha_w = symbols("dT_th alpha_w")
         inputs.append(_renamed(thermometer_error, "dT_th", "bath thermometer error (shared)"))
         alpha = "relative temperature coefficient of water"
         inputs.append(_renamed(water_temperature_coefficient, "alpha_w", alpha))  # type: ignore[arg-type]
         shared = dT_th
-        c_prev = nu_w * (1 + alpha_w * dT_th) / t1s
+        nu_water = nu_w * (1 + alpha_w * dT_th)
+    terms.surface("_w", water_surface, "water")
+    terms.kinetic(1, first_master_kinetic_energy)
+    terms.geometry(1, first_master_geometry)
+    ke1 = terms.kinetic_term(1, t1s)
+    terms.check_kinetic("water in master 1", ke1, nu_water)
+    c_prev: sp.Expr = nu_water / t1s if ke1 == 0 else (nu_water + ke1) / t1s
     constants = [c_prev]
     for k, step in enumerate(steps, start=2):
-        c_prev = c_prev * _step_factor(k, step, shared, inputs)
+        c_prev = _step_constant(k, step, c_prev, shared, terms)
         constants.append(c_prev)
     if certified is not None:
-        expr = _certified(certified, c_prev, shared, len(constants), inputs)
+        expr = _certified(certified, c_prev, shared, len(constants), terms)
         output, default_unit = "nu_X", "m^2/s"
     else:
         expr, output, default_unit = c_prev, f"C{len(constants)}", "m^2/s^2"
-    model = _chain_model(inputs, expr, tuple(constants), output, default_unit, minimum_flow_time)
+    terms.refuse_unused()
+    if terms.gamma:  # g of the surface-tension factors, an exact constant of the budget
+        g_n = Constant(GRAVITY_CONSTANT, gravity, "m/s^2", "g in the surface-tension factors")
+        budget_kw["constants"] = (*budget_kw.get("constants", ()), g_n)
+    model = _chain_model(
+        inputs, expr, tuple(constants), output, default_unit, minimum_flow_time,
+        tuple(terms.checks), (GRAVITY_CONSTANT,) if terms.gamma else (),
+    )  # fmt: skip
     budget_kw.setdefault("title", model.title)
     budget = Budget.from_method(model, inputs, default_unit if unit is None else unit, **budget_kw)
     return StepUpChain(budget, tuple(constants), minimum_flow_time)
 
 
-def _step_factor(k: int, step: StepUpStep, shared: sp.Expr, inputs: list[InputQuantity]) -> sp.Expr:
-    """C_k/C_{k−1} of step k (appends the step's inputs)."""
+def _step_constant(
+    k: int, step: StepUpStep, c_prev: sp.Expr, shared: sp.Expr, terms: _Terms
+) -> sp.Expr:
+    """C_k of step k (appends the step's inputs)."""
     if not isinstance(step, StepUpStep):
         raise InputError(f"step {k} must be a StepUpStep, got {type(step).__name__}")
     label = f" ({step.label})" if step.label else ""
+    temperature = _step_factor(k, step, shared, terms.inputs)
     tp, tk = symbols(f"tp{k} t{k}")
+    terms.surface(str(k), step.surface, f"liquid {k}{label}")
+    terms.kinetic(k, step.kinetic_energy)
+    where = f"step {k}{label}"
+    s = terms.surface_factor(k - 1, "_w" if k == 2 else str(k - 1), str(k), where)
+    ke_known, ke_new = terms.kinetic_term(k - 1, tp), terms.kinetic_term(k, tk)
+    nu_known = c_prev * (1 + s) * tp - ke_known
+    nu_new = nu_known * temperature
+    terms.check_kinetic(f"{where}, in master {k - 1}", ke_known, nu_known)
+    terms.check_kinetic(f"{where}, in master {k}", ke_new, nu_new)
+    terms.geometry(k, step.geometry)
+    if s == 0 and ke_known == 0 and ke_new == 0:
+        return c_prev * (tp / tk) * temperature  # the form without the optional terms
+    return (nu_new + ke_new) / tk
+
+
+def _step_factor(k: int, step: StepUpStep, shared: sp.Expr, inputs: list[InputQuantity]) -> sp.Expr:
+    """Temperature factor τ_k of step k (appends the step's flow times and α_k, ΔT_k)."""
+    label = f" ({step.label})" if step.label else ""
     inputs.append(
         _renamed(step.time_in_known, f"tp{k}", f"flow time of liquid {k}{label} in master {k - 1}")
     )
     inputs.append(
         _renamed(step.time_in_new, f"t{k}", f"flow time of liquid {k}{label} in master {k}")
     )
-    factor: sp.Expr = tp / tk
     if step.temperature_coefficient is None:
         if step.temperature_difference is not None:
             raise InputError(f"step {k}: temperature_difference needs a temperature_coefficient")
-        return factor
+        return sp.Integer(1)
     (ak,) = symbols(f"alpha{k}")
     alpha = f"relative temperature coefficient of liquid {k}{label}"
     inputs.append(_renamed(step.temperature_coefficient, f"alpha{k}", alpha))
@@ -426,7 +688,7 @@ def _step_factor(k: int, step: StepUpStep, shared: sp.Expr, inputs: list[InputQu
             f"step {k}: a temperature_coefficient without a thermometer_error or a "
             "temperature_difference has no effect; leave it out"
         )
-    return factor * (1 + ak * (shared + local)) / (1 + ak * shared)
+    return (1 + ak * (shared + local)) / (1 + ak * shared)
 
 
 def _certified(
@@ -434,13 +696,21 @@ def _certified(
     c_last: sp.Expr,
     shared: sp.Expr,
     n_last: int,
-    inputs: list[InputQuantity],
+    terms: _Terms,
 ) -> sp.Expr:
     """ν_X of a liquid certified in the last master (appends its inputs)."""
+    inputs = terms.inputs
     (tX,) = symbols("t_X")
     where = f"flow time of the certified liquid in master {n_last}"
     inputs.append(_renamed(certified.flow_time, "t_X", where))
-    expr = c_last * tX
+    terms.surface("_X", certified.surface, "the certified liquid")
+    known = "_w" if n_last == 1 else str(n_last)
+    s = terms.surface_factor(n_last, known, "_X", "certified liquid")
+    ke = terms.kinetic_term(n_last, tX)
+    expr = c_last * tX if s == 0 else c_last * (1 + s) * tX
+    if ke != 0:
+        expr = expr - ke
+        terms.check_kinetic(f"certified liquid, in master {n_last}", ke, expr)
     if certified.temperature_coefficient is not None:
         if shared == 0:
             raise InputError("certified.temperature_coefficient needs a thermometer_error")
