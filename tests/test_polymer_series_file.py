@@ -175,3 +175,20 @@ def test_cli_warnings_in_json(tmp_path):
     d = json.loads(out)
     assert any("outside 1.2–2.0" in w for w in d["warnings"])
     assert d["monte_carlo"] is None and d["molar_mass"] is None
+
+
+def test_panel_loads_refuses_and_keeps_the_last_good_report():
+    from viscometry.widgets.dilute_panel import dilute_panel
+
+    panel = dilute_panel(str(EXAMPLE), trials=0)
+    good = panel.report()
+    assert good is not None and good.monte_carlo is None
+    expected = extrapolate(load_series(EXAMPLE).series).huggins.intrinsic.value
+    assert good.extrapolation.huggins.intrinsic.value == expected  # the same library call
+    assert "Huggins: [η]" in panel.report_html.value
+    assert panel.load_text(MINIMAL.replace("[100.02, 100.00, 99.98]", "[1, -1]"), "x.toml") is False
+    assert "x.toml" in panel.message.value and "solvent_flow_time[1]" in panel.message.value
+    assert panel.report() is good
+    panel._uploaded([{"name": "bin.toml", "content": memoryview(b"\xff\xfe")}])
+    assert "not UTF-8" in panel.message.value and panel.report() is good
+    assert panel.load_text(MINIMAL, "mini.toml") is True and panel.message.value == ""

@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING
 
 from viscometry import units as _units
 from viscometry.gum.rounding import round_result
-from viscometry.text import format_dof, format_percent, format_unit, one_line
+from viscometry.text import format_dof, format_percent, format_significant, format_unit, one_line
 
 if TYPE_CHECKING:
     from viscometry.polymer.series import Estimate, Extrapolation, MonteCarloCheck
@@ -68,6 +68,11 @@ def intrinsic_unit(concentration_unit: str) -> str:
     return format_unit(f"1/({text})")
 
 
+def _u2(x: float) -> str:
+    """An uncertainty to two significant digits, trailing zeros kept (0.0020, not 0.002)."""
+    return format_significant(float(x), 2)
+
+
 def _plain_unit(unit: str) -> str:
     """A simple unit as typed (``g/dL`` keeps its capital L), others formatted."""
     text = unit.replace(" ", "")
@@ -114,8 +119,8 @@ def points_lines(ext: Extrapolation, c_unit: str) -> list[str]:
     for i, label in enumerate(ext.series.labels()):
         rows.append([
             one_line(label, 40), f"{ext.concentrations[i] / cs:.5f}",
-            f"{ext.concentration_uncertainties[i] / cs:.2g}", f"{ext.relative_viscosities[i]:.5f}",
-            f"{ext.relative_uncertainties[i]:.2g}", f"{h.ordinates[i] * cs:.5f}",
+            _u2(ext.concentration_uncertainties[i] / cs), f"{ext.relative_viscosities[i]:.5f}",
+            _u2(ext.relative_uncertainties[i]), f"{h.ordinates[i] * cs:.5f}",
             f"{k.ordinates[i] * cs:.5f}",
         ])  # fmt: skip
     return _table(rows)
@@ -131,18 +136,18 @@ def fit_lines(ext: Extrapolation, c_unit: str) -> list[str]:
             f"{fit.form.capitalize()}: " + estimate_statement("[η]", fit.intrinsic, cs, e_unit)
         )
         out.append(
-            f"  {kname} = {fit.constant.value:.4f}, u({kname}) = {fit.constant.standard_uncertainty:.2g}; "
+            f"  {kname} = {fit.constant.value:.4f}, u({kname}) = {_u2(fit.constant.standard_uncertainty)}; "
             f"χ² = {fit.chi_squared:.3g} (ν = {fit.dof}, p = {fit.p_value:.2g}); "
             f"largest contribution: {fit.intrinsic.dominant()}"
         )
     d = ext.difference
     verdict = "consistent" if ext.consistent else "NOT consistent"
     out.append(
-        f"Huggins − Kraemer: {d.value * cs:.3g} {e_unit}, U = {d.expanded_uncertainty * cs:.2g} "
+        f"Huggins − Kraemer: {d.value * cs:.3g} {e_unit}, U = {_u2(d.expanded_uncertainty * cs)} "
         f"{e_unit}: {verdict} (|difference| {'≤' if ext.consistent else '>'} U)"
     )
     out.append(
-        f"k_H + k_K = {ext.huggins.constant.value + ext.kraemer.constant.value:.4f} (0.5 expected for the ideal case)"
+        f"k_H + k_K = {ext.huggins.constant.value + ext.kraemer.constant.value:.4f} (near 0.5 where both lines hold)"
     )
     return out
 
@@ -155,8 +160,8 @@ def single_point_lines(ext: Extrapolation, c_unit: str) -> list[str]:
     for sp in ext.single_points:
         rows.append([
             FORM_NAMES.get(sp.form, sp.form), one_line(sp.label, 40),
-            f"{sp.estimate.value * cs:.5f}", f"{sp.estimate.standard_uncertainty * cs:.2g}",
-            f"{sp.bias.value * cs:+.5f}", f"{sp.bias.standard_uncertainty * cs:.2g}",
+            f"{sp.estimate.value * cs:.5f}", _u2(sp.estimate.standard_uncertainty * cs),
+            f"{sp.bias.value * cs:+.5f}", _u2(sp.bias.standard_uncertainty * cs),
             f"{100 * sp.relative_bias:+.2f} %",
         ])  # fmt: skip
     return _table(rows)
@@ -175,7 +180,7 @@ def monte_carlo_lines(mc: MonteCarloCheck, ext: Extrapolation, c_unit: str) -> l
     ):
         mean, u, low, high = (x * cs for x in stats)
         out.append(
-            f"  {name}: mean {mean:.5f}, u {u:.2g} (propagated {fit.intrinsic.standard_uncertainty * cs:.2g}), "
+            f"  {name}: mean {mean:.5f}, u {_u2(u)} (propagated {_u2(fit.intrinsic.standard_uncertainty * cs)}), "
             f"interval [{low:.5f}, {high:.5f}] {e_unit}"
         )
     return out
