@@ -170,3 +170,22 @@ def test_accept_limits_lists_sources(capsys):
     assert all(r["source"] for r in d["limits"])
     assert main(["accept", "limits"]) == 0
     assert "source: common practice, no source" in capsys.readouterr().out
+
+
+def test_accept_budget_checks_the_timings_a_budget_file_carries(capsys):
+    import tomllib
+
+    budget = ROOT / "examples" / "lubricant_lab_kinematic_viscosity.toml"
+    readings = tomllib.loads(budget.read_text(encoding="utf-8"))["inputs"]["t"]["readings"]
+    d = _json(capsys, "accept", "budget", "--file", budget, "--json")
+    assert d["inputs"] == ["t"] and d["source"] == str(budget)
+    v = d["verdicts"][0]
+    assert v["values"] == readings
+    # exact analytic: range against 0.2 % of the mean scaled by f(5)/f(2) = 3.9/2.8
+    mean = sum(readings) / len(readings)
+    assert v["limit"] == pytest.approx(0.002 * mean * 3.9 / 2.8, rel=1e-12)
+    assert v["action"] == (
+        "accept" if max(readings) - min(readings) <= v["limit"] else "investigate"
+    )
+    assert main(["accept", "budget", "--file", str(budget)]) == 0
+    assert capsys.readouterr().out.startswith("input t: ")

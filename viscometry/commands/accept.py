@@ -7,6 +7,8 @@ Kinds:
   laboratories   VALUES are two laboratories' results; needs a limit (R)
   file           --file CSV with the raw timings of each determination (viscometry-timings/1,
                  docs/evidence.md): every determination's timings, then the determinations
+  budget         --file TOML budget file: the timings of every input stated as readings
+                 in a unit of time (e.g. [inputs.t] readings = [...])
   limits         list the built-in limits with their sources
 
 A limit is one of the built-in ones (--limit NAME, listed by ``accept limits``) or the
@@ -23,7 +25,7 @@ import argparse
 NAME = "accept"
 HELP = "acceptance of flow timings and duplicate determinations (accept, repeat, investigate)"
 
-_KINDS = ("timings", "duplicates", "laboratories", "file", "limits")
+_KINDS = ("timings", "duplicates", "laboratories", "file", "budget", "limits")
 _APPLIES = {"timings": "flow_time", "duplicates": "determination", "laboratories": "laboratories"}
 
 
@@ -33,7 +35,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("kind", choices=_KINDS, help="what to check")
     parser.add_argument("values", nargs="*", type=float, metavar="VALUE",
                         help="the results (timings in s, or determinations)")  # fmt: skip
-    parser.add_argument("--file", metavar="CSV", help="timings file (kind 'file')")
+    parser.add_argument("--file", metavar="FILE",
+                        help="timings file (kind 'file') or budget file (kind 'budget')")  # fmt: skip
     lim = parser.add_argument_group("the limit (for two results)")
     lim.add_argument("--limit", metavar="NAME", help="a built-in limit (see 'accept limits')")
     lim.add_argument("--relative-limit", type=float, metavar="F",
@@ -84,6 +87,8 @@ def _verdicts(args: argparse.Namespace) -> tuple[list, str, dict]:
 
     if args.kind == "file":
         return _file_verdicts(args)
+    if args.kind == "budget":
+        return _budget_verdicts(args)
     if args.file is not None:
         raise InputError(f"--file belongs to kind 'file', not {args.kind!r}")
     applies = _APPLIES[args.kind]
@@ -98,6 +103,45 @@ def _verdicts(args: argparse.Namespace) -> tuple[list, str, dict]:
     return [acc.check_laboratories(*args.values, limit)], args.unit, {}
 
 
+def _timing_limit(args: argparse.Namespace):  # noqa: ANN202
+    from viscometry.errors import InputError
+    from viscometry.evidence import acceptance as acc
+
+    t_limit = acc.LIMITS.get(args.timing_limit)
+    if t_limit is None or t_limit.applies_to != "flow_time":
+        names = [n for n, v in acc.LIMITS.items() if v.applies_to == "flow_time"]
+        raise InputError(f"--timing-limit must be one of {', '.join(names)}")
+    return t_limit
+
+
+def _budget_verdicts(args: argparse.Namespace) -> tuple[list, str, dict]:
+    """Timings of a budget file: every input stated as readings in a unit of time."""
+    from viscometry import units
+    from viscometry.errors import InputError
+    from viscometry.evidence import acceptance as acc
+    from viscometry.io.reader import load_budget
+
+    if args.file is None or args.values:
+        raise InputError("kind 'budget' takes --file BUDGET.toml and no values")
+    bf = load_budget(args.file)
+    t_limit = _timing_limit(args)
+    verdicts, names = [], []
+    for q in bf.budget.inputs:
+        if not q.readings or len(q.readings) < 2 or not units.same_dimension(q.unit or "1", "s"):
+            continue
+        times = [units.convert(r, q.unit, "s") for r in q.readings]
+        if len(times) > acc.MAX_RESULTS:
+            raise InputError(
+                f"{bf.source}: inputs.{q.name} has {len(times)} readings; the agreement check "
+                f"takes at most {acc.MAX_RESULTS}"
+            )
+        verdicts.append(acc.check_flow_times(times, t_limit, most=max(args.most, len(times))))
+        names.append(q.name)
+    if not verdicts:
+        raise InputError(f"{bf.source}: no input is stated as readings in a unit of time")
+    return verdicts, "s", {"inputs": names, "source": bf.source, "fingerprint": bf.fingerprint}
+
+
 def _file_verdicts(args: argparse.Namespace) -> tuple[list, str, dict]:
     from viscometry.errors import InputError
     from viscometry.evidence import acceptance as acc
@@ -106,10 +150,7 @@ def _file_verdicts(args: argparse.Namespace) -> tuple[list, str, dict]:
     if args.file is None or args.values:
         raise InputError("kind 'file' takes --file CSV and no values")
     tf = load_timings(args.file)
-    t_limit = acc.LIMITS.get(args.timing_limit)
-    if t_limit is None or t_limit.applies_to != "flow_time":
-        names = [n for n, v in acc.LIMITS.items() if v.applies_to == "flow_time"]
-        raise InputError(f"--timing-limit must be one of {', '.join(names)}")
+    t_limit = _timing_limit(args)
     verdicts = [acc.check_flow_times(t, t_limit, most=args.most) for t in tf.determinations]
     extra = {"sample": tf.sample, "determination_labels": list(tf.labels), "source": tf.source}
     if len(tf.determinations) >= 2:
@@ -123,6 +164,7 @@ def run(args: argparse.Namespace) -> int:
     from viscometry.commands._common import json_text
     from viscometry.evidence.acceptance import LIMITS
     from viscometry.evidence_text import ACCEPTANCE_CAUTION, limit_lines, verdict_statement
+    from viscometry.text import one_line
 
     if args.kind == "limits":
         if args.json:
@@ -138,7 +180,11 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print(json_text(_json(verdicts, lines, unit, extra)))
         return 0
-    for v, line in zip(verdicts, lines, strict=True):
+    labels = extra.get("inputs") or extra.get("determination_labels") or []
+    for i, (v, line) in enumerate(zip(verdicts, lines, strict=True)):
+        if v.check == "flow_time" and i < len(labels):
+            what = "input" if "inputs" in extra else "determination"
+            line = f"{what} {one_line(labels[i], 40)}: {line}"
         print(line)
         print(f"  limit: {v.limit_name} ({v.limit_source or 'source not stated'})")
     print(f"note: {ACCEPTANCE_CAUTION}")
