@@ -182,3 +182,24 @@ def test_example_loads_without_warnings() -> None:
     assert bf.budget.estimate_warnings == ()
     names = {c.name for c in bf.budget.checks}
     assert names == {"release_distance", "bottom_distance", "surface_distance"}
+
+
+def test_budget_carries_the_oseen_refusal_as_a_validity_warning() -> None:
+    # the example file with a fall time 40 times shorter: Re_p ≈ 1.4 → beyond Oseen's limit
+    import tomllib
+    from pathlib import Path
+
+    from viscometry.errors import ValidityWarning
+    from viscometry.io import dumps_budget, loads_budget
+
+    path = Path(__file__).resolve().parents[1] / "examples" / "methods"
+    text = (path / "falling_sphere_haberman_sayre.toml").read_text(encoding="utf-8")
+    doc = tomllib.loads(text)
+    assert loads_budget(dumps_budget(doc)).budget.evaluate().warnings == ()
+    doc["inputs"]["t"]["readings"] = [0.707, 0.706, 0.708]
+    found = loads_budget(dumps_budget(doc)).budget.evaluate().warnings
+    assert any(w.startswith("RESULT NOT VALID: particle Reynolds") for w in found)
+    with pytest.warns(ValidityWarning) as record:  # one ValidityWarning per text
+        fc.emit(found)
+    assert [str(w.message) for w in record] == list(found)
+    assert any(str(w.message).startswith("RESULT NOT VALID: particle Reynolds") for w in record)
