@@ -45,6 +45,20 @@ final_volume = { value = 20, standard_uncertainty = 0.02, unit = "mL" }
 """
 
 
+def _keys_not_snake_case(obj, where=""):
+    """Every key of a JSON value, at any depth, that is not snake_case."""
+    bad = []
+    if isinstance(obj, dict):
+        for key, value in obj.items():
+            if not re.fullmatch(r"[a-z][a-z0-9_]*", key):
+                bad.append(f"{where}/{key}")
+            bad += _keys_not_snake_case(value, f"{where}/{key}")
+    elif isinstance(obj, list):
+        for i, value in enumerate(obj):
+            bad += _keys_not_snake_case(value, f"{where}[{i}]")
+    return bad
+
+
 def run_cli(*argv: str) -> tuple[int, str, str]:
     out, err = io.StringIO(), io.StringIO()
     with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
@@ -114,8 +128,10 @@ def test_cli_json_matches_library_and_independent_reference():
     d = json.loads(out)
     assert d["schema"] == "viscometry.dilute/1"
     assert isinstance(d["warnings"], list)
-    keys = [k for k in d] + [k for k in d["huggins"]] + [k for k in d["points"][0]]
-    assert all(re.fullmatch(r"[a-z][a-z0-9_]*", k) for k in keys), keys
+    assert _keys_not_snake_case(d) == []
+    assert {"name": "t_0", "contribution": pytest.approx(
+        dict(extrapolate(load_series(EXAMPLE).series).huggins.intrinsic.contributions)["t_0"] * 10.0
+    )} in d["huggins"]["contributions"]  # fmt: skip
     sf = load_series(EXAMPLE)
     ext = extrapolate(sf.series)
     scale = 10.0  # exact analytic: 1 g/dL = 10 kg/m³, so [η] in dL/g = 10 × [η] in m³/kg

@@ -300,7 +300,9 @@ def _fit_dict(fit: Any, cs: float, unit: str, constant_key: str) -> dict[str, An
         "dof": fit.dof,
         "p_value": fit.p_value,
         "dominant_input": fit.intrinsic.dominant(),
-        "contributions": {name: c * cs for name, c in fit.intrinsic.contributions},
+        "contributions": [
+            {"name": name, "contribution": c * cs} for name, c in fit.intrinsic.contributions
+        ],
         "statement": estimate_statement("[η]", fit.intrinsic, cs, unit),
     }
 
