@@ -189,3 +189,23 @@ def test_accept_budget_checks_the_timings_a_budget_file_carries(capsys):
     )
     assert main(["accept", "budget", "--file", str(budget)]) == 0
     assert capsys.readouterr().out.startswith("input t: ")
+
+
+def test_a_budget_file_takes_the_stability_term_from_the_json(capsys):
+    # exact analytic: C = C_last + dC_drift with independent inputs has the prediction's u
+    from viscometry.io import loads_budget
+
+    d = _json(capsys, "drift", HISTORY, "--date", "2026-05-01", "--json")
+    last, term = d["certificates"][-1], d["stability_input"]
+    text = (
+        'format = "viscometry-budget/1"\n[measurand]\nname = "C"\nunit = "mm^2/s^2"\n'
+        'model = "C_last + dC_drift"\n[inputs.C_last]\n'
+        f'value = {last["constant"]!r}\nunit = "mm^2/s^2"\n'
+        f"expanded_uncertainty = {last['expanded_uncertainty']!r}\ncoverage_factor = 2\n"
+        f'[inputs.dC_drift]\nvalue = {term["value"]!r}\nunit = "{term["unit"]}"\n'
+        f"standard_uncertainty = {term['standard_uncertainty']!r}\n"
+    )
+    result = loads_budget(text, "drift.toml").budget.evaluate()
+    assert result.value == pytest.approx(d["prediction"]["constant"], rel=1e-12)
+    u = d["prediction"]["standard_uncertainty"]
+    assert result.standard_uncertainty == pytest.approx(u, rel=1e-9)

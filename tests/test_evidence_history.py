@@ -167,3 +167,18 @@ def test_results_are_immutable():
         fit.inflated = True  # type: ignore[misc]
     with pytest.raises(ValueError):
         fit.covariance[0, 0] = 1.0
+
+
+def test_a_budget_takes_the_stability_term_and_reproduces_the_prediction():
+    # exact analytic: C(t) = C_last + δC, inputs independent → u² = u²_last + u²(δC) = u²(C)
+    from viscometry.gum import Budget
+
+    fit = fit_drift(_history())
+    date = dt.date(2026, 5, 1)
+    term = fit.stability_input(date)
+    last = InputQuantity.from_expanded("C_last", C[-1], U[-1], "mm^2/s^2", coverage_factor=2.0)
+    budget = Budget.from_formula("C", "C_last + dC_drift", [last, term], "mm^2/s^2")
+    result = budget.evaluate()
+    p = fit.predict(date)
+    assert result.value == pytest.approx(p.constant, rel=1e-12)
+    assert result.standard_uncertainty == pytest.approx(p.standard_uncertainty, rel=1e-9)
