@@ -6,7 +6,7 @@
     η = π r⁴ (p₁² − p₂²) t (1 + 4 ξ/r) / (16 L p₂ V₂)
 ``gas_capillary_compressible``
     η = π r⁴ (p₁² − p₂²) t / (16 L p₂ V₂) − (β ln(p₁/p₂) + m) ρ₂ V₂ / (8 π L t),
-    ρ₂ = p₂ M / (R T)
+    ρ₂ = p₂ M / (R T), R = N_A·k exact (the input ``R_gas``)
 
 A gas flows isothermally through a capillary of radius r and length L from the inlet pressure
 p₁ to the outlet pressure p₂; V₂ is the volume collected in the time t, measured at p₂. The
