@@ -10,12 +10,16 @@ steps is one ufloat — so the correlations the chain must carry are the package
 
 from __future__ import annotations
 
+import tomllib
+from pathlib import Path
+
 import pytest
 import sympy as sp
 from uncertainties import ufloat
 
-from viscometry.errors import InputError
+from viscometry.errors import BudgetFileError, InputError
 from viscometry.gum import InputQuantity as Q
+from viscometry.io.chain import load_chain_file, loads_chain_file
 from viscometry.methods import get_method
 from viscometry.methods.calibration import (
     SURFACE_TENSION_FACTOR_LIMIT,
@@ -194,3 +198,74 @@ def test_chain_model_lists_the_new_inputs_with_units() -> None:
     assert {"r_u1", "r_l1", "h1", "rho2", "rho_w", "t_X"} <= set(model.positive_inputs)
     assert "E1" not in model.positive_inputs and "sigma2" not in model.positive_inputs
     assert get_method("glass_capillary_corrected_surface_tension") is not None
+
+
+# --------------------------------------------------------------------------- chain files
+CHAIN_EXAMPLE = (
+    Path(__file__).resolve().parents[1]
+    / "examples"
+    / "chains"
+    / "ashcombe_chain_surface_tension.toml"
+)
+
+
+def test_example_chain_file_follows_the_working_equation() -> None:
+    # exact analytic: the file's chain equals the working equation evaluated step by step
+    # at the file's estimates (means of the readings; δT = ΔT_k = 0, so τ_k = 1)
+    doc = tomllib.loads(CHAIN_EXAMPLE.read_text(encoding="utf-8"))
+    w, (s2, s3), cert = doc["water"], doc["steps"], doc["certified"]
+    g = STANDARD_GRAVITY
+
+    def mean(xs: list[float]) -> float:
+        return sum(xs) / len(xs)
+
+    def factor(master: dict, liquid_c: dict, liquid_x: dict) -> float:
+        return surface_tension_factor(
+            master["driving_head"]["value"] * 1e-3, master["upper_radius"]["value"] * 1e-3,
+            master["lower_radius"]["value"] * 1e-3, liquid_c["surface_tension"]["value"] * 1e-3,
+            liquid_c["density"]["value"], liquid_x["surface_tension"]["value"] * 1e-3,
+            liquid_x["density"]["value"], g,
+        )  # fmt: skip
+
+    e = [m["kinetic_energy"]["value"] * 1e-6 for m in (w, s2, s3)]  # m²·s
+    t1 = mean(w["readings"])
+    c = [(1.0034e-6 + e[0] / t1**2) / t1]
+    for k, (known, step) in enumerate(((w, s2), (s2, s3)), start=1):
+        tp, tn = mean(step["readings_in_known"]), mean(step["readings_in_new"])
+        nu = c[-1] * (1 + factor(known, known, step)) * tp - e[k - 1] / tp**2
+        c.append((nu + e[k] / tn**2) / tn)
+    t_x = mean(cert["readings"])
+    nu_x = c[2] * (1 + factor(s3, s3, cert)) * t_x - e[2] / t_x**2
+    parts = load_chain_file(CHAIN_EXAMPLE)
+    assert parts.chain.constants() == pytest.approx(tuple(c), rel=1e-12)
+    res = parts.chain.evaluate()
+    assert res.value == pytest.approx(nu_x * 1e6, rel=1e-12)  # mm²/s
+    assert res.warnings == ()
+    # water → S2 in master 1: S ≈ +0.08 % (the size the example's comment states)
+    assert factor(w, w, s2) == pytest.approx(8.2e-4, abs=0.1e-4)
+    # every partial chain builds, without the terms that act only above it
+    for n in range(1, parts.masters + 1):
+        partial = parts.chain_to(n)
+        assert partial.constants() == pytest.approx(tuple(c[:n]), rel=1e-12)
+        assert f"r_u{n}" not in partial.budget.input_names
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "message"),
+    [
+        ('density = { value = 864.0, unit = "kg/m^3", standard_uncertainty = 0.5 }\n', "",
+         r"\[\[steps\]\] entry 1 \(S2\) surface_tension needs density too"),
+        ('driving_head = { value = 405.0, unit = "mm", standard_uncertainty = 3.0 }\n', "",
+         r"\[\[steps\]\] entry 1 \(S2\) upper_radius, lower_radius need driving_head too"),
+        ('surface_tension = { value = 30.9, unit = "mN/m", standard_uncertainty = 0.3 }\n'
+         'density = { value = 874.0, unit = "kg/m^3", standard_uncertainty = 0.5 }\n', "",
+         r"geometry of master 3 needs .*missing: the certified liquid"),
+        ('kinetic_energy = { value = 20.0, unit = "mm^2*s"', 'kinetic_energy = { value = 20.0, unit = "mm^2"',
+         r"\[\[steps\]\] entry 1 \(S2\) kinetic_energy"),
+    ],
+)  # fmt: skip
+def test_chain_file_refusals(old: str, new: str, message: str) -> None:
+    text = CHAIN_EXAMPLE.read_text(encoding="utf-8")
+    assert old in text
+    with pytest.raises(BudgetFileError, match=message):
+        loads_chain_file(text.replace(old, new, 1), "chain.toml")

@@ -331,7 +331,8 @@ CASES = [
      "steps.0"),
     ("step key unknown", _edit('label = "S2"', 'label = "S2"\ncolour = "red"'),
      "[[steps]] entry 1 (S2) has unknown key 'colour' (allowed: label, readings_in_known, "
-     "readings_in_new, temperature_coefficient, temperature_difference)", "steps.0"),
+     "readings_in_new, temperature_coefficient, temperature_difference, surface_tension, density, "
+     "kinetic_energy, upper_radius, lower_radius, driving_head)", "steps.0"),
     ("step readings missing", _edit("readings_in_known = [610.09, 610.16, 609.95]\n", ""),
      "[[steps]] entry 1 (S2) is missing key readings_in_known (the flow-time readings, in s)",
      "steps.0"),
@@ -389,7 +390,8 @@ CASES = [
      "[certified] needs temperature_coefficient (the certified liquid's α) when the chain has a "
      "[thermometer_error]", "certified"),
     ("certified key unknown", _edit('label = "R50"', 'label = "R50"\nvalue = 50.0', WITH_TEMPERATURES),
-     "[certified] has unknown key 'value' (allowed: label, readings, temperature_coefficient, unit)",
+     "[certified] has unknown key 'value' (allowed: label, readings, temperature_coefficient, unit, "
+     "surface_tension, density)",
      "certified"),
     ("certified unit of a constant", _edit('label = "R50"', 'label = "R50"\nunit = "mm^2/s^2"',
                                            WITH_TEMPERATURES),

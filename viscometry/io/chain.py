@@ -3,7 +3,9 @@
 A chain file holds what a laboratory measures and certifies for a step-up chain from water
 (ASTM D2162): the flow times of water in master 1, the flow times of each step liquid in the
 known and in the new master, the step liquids' temperature coefficients, the shared error of
-the bath thermometer and, optionally, a liquid certified in the last master. The format is
+the bath thermometer and, optionally, a liquid certified in the last master and the quantities of
+the surface-tension and kinetic-energy terms (σ and ρ of the liquids, E and the meniscus
+geometry of the masters). The format is
 described with an example in ``docs/chain-files.md``.
 
 The reader checks the *shape* of the file key by key and maps it onto the engine's own
@@ -19,6 +21,7 @@ reader's ``parse_toml``) and a size limit; nothing in a file is ever run.
 
 from __future__ import annotations
 
+import dataclasses
 import os
 from collections.abc import Iterator, Mapping
 from contextlib import contextmanager
@@ -39,6 +42,8 @@ from viscometry.io.reader import (
 from viscometry.io.schema import MAX_FILE_BYTES
 from viscometry.methods.calibration import (
     CertifiedLiquid,
+    LiquidSurface,
+    MeniscusGeometry,
     StepUpChain,
     StepUpStep,
     step_up_chain,
@@ -64,12 +69,16 @@ TOP_KEYS = (
     "format", "title", "unit", "minimum_flow_time", "water", "thermometer_error", "steps",
     "certified",
 )  # fmt: skip
-WATER_KEYS = ("readings", "reference", "temperature_coefficient")
+#: Optional keys of the surface-tension and kinetic-energy terms: σ and ρ of the liquid, and
+#: the kinetic-energy constant and the meniscus geometry of the master it calibrates.
+SURFACE_KEYS = ("surface_tension", "density")
+MASTER_KEYS = ("kinetic_energy", "upper_radius", "lower_radius", "driving_head")
+WATER_KEYS = ("readings", "reference", "temperature_coefficient", *SURFACE_KEYS, *MASTER_KEYS)
 STEP_KEYS = (
     "label", "readings_in_known", "readings_in_new", "temperature_coefficient",
-    "temperature_difference",
+    "temperature_difference", *SURFACE_KEYS, *MASTER_KEYS,
 )  # fmt: skip
-CERTIFIED_KEYS = ("label", "readings", "temperature_coefficient", "unit")
+CERTIFIED_KEYS = ("label", "readings", "temperature_coefficient", "unit", *SURFACE_KEYS)
 #: Default units of the measurand: the constants C_k, or ν of a certified liquid.
 CONSTANT_UNIT = "mm^2/s^2"
 CERTIFIED_UNIT = "mm^2/s"
@@ -105,6 +114,13 @@ class ChainFile:
         For the flow-time checks [s].
     source : str
         The file (or name) the chain was read from.
+    water_surface : LiquidSurface or None
+        σ and ρ of water (``[water] surface_tension``, ``density``).
+    first_master_geometry : MeniscusGeometry or None
+        Meniscus geometry of master 1 (``[water] upper_radius``, ``lower_radius``,
+        ``driving_head``).
+    first_master_kinetic_energy : InputQuantity or None
+        E₁ of master 1 (``[water] kinetic_energy``).
     """
 
     chain: StepUpChain
@@ -119,6 +135,9 @@ class ChainFile:
     unit: str
     minimum_flow_time: float
     source: str
+    water_surface: LiquidSurface | None = None
+    first_master_geometry: MeniscusGeometry | None = None
+    first_master_kinetic_energy: InputQuantity | None = None
 
     @property
     def masters(self) -> int:
@@ -142,12 +161,32 @@ class ChainFile:
         title = self.title or f"Step-up chain from water, {self.masters} master viscometer(s)"
         if master < self.masters or self.certified is not None:
             title = f"{title} (up to master {master})"
+        steps, water_surface, geometry = _up_to(self, master)
         return step_up_chain(
-            self.water_value, self.water_flow_time, self.steps[: master - 1],
+            self.water_value, self.water_flow_time, steps,
             thermometer_error=self.thermometer_error,
             water_temperature_coefficient=self.water_temperature_coefficient,
             unit=self.unit, minimum_flow_time=self.minimum_flow_time, title=title,
+            water_surface=water_surface, first_master_geometry=geometry,
+            first_master_kinetic_energy=self.first_master_kinetic_energy,
         )  # fmt: skip
+
+
+def _up_to(
+    f: ChainFile, master: int
+) -> tuple[list[StepUpStep], LiquidSurface | None, MeniscusGeometry | None]:
+    """Steps, water's σ, ρ and master 1's geometry of the chain up to ``master``, without
+    the surface-tension quantities that act only above it (the last master's geometry, and the
+    last liquid's σ, ρ when no term below uses them)."""
+    steps = list(f.steps[: master - 1])
+    water_surface, geometry = f.water_surface, f.first_master_geometry
+    if master == 1:
+        return steps, None, None
+    last = steps[-1]
+    below = f.first_master_geometry if master == 2 else steps[-2].geometry
+    surface = last.surface if below is not None else None
+    steps[-1] = dataclasses.replace(last, geometry=None, surface=surface)
+    return steps, water_surface, geometry
 
 
 # --------------------------------------------------------------------------- entry points
@@ -232,6 +271,10 @@ def read_chain_document(doc: Mapping[str, Any], src: str) -> ChainFile:
             raise r.fail("top level", f"minimum_flow_time must be positive (in s), got {t_min!r}")
     names: dict[str, tuple[str, str]] = {}
     water = _water(r, doc, names)
+    with _part("water"):
+        w = doc["water"]
+        water_surface = _surface(r, w, "[water]", "_w", names, "water")
+        geometry, energy = _master(r, w, "[water]", 1, names, "water")
     thermometer = _thermometer(r, doc, names)
     steps = _steps(r, doc, names)
     certified, label, x_unit = _certified(r, doc, names)
@@ -240,7 +283,8 @@ def read_chain_document(doc: Mapping[str, Any], src: str) -> ChainFile:
         "water_value": water[0], "water_flow_time": water[1], "steps": tuple(steps),
         "thermometer_error": thermometer, "water_temperature_coefficient": water[2],
         "certified": certified, "certified_label": label, "title": title, "unit": unit,
-        "minimum_flow_time": t_min, "source": src,
+        "minimum_flow_time": t_min, "source": src, "water_surface": water_surface,
+        "first_master_geometry": geometry, "first_master_kinetic_energy": energy,
     }  # fmt: skip
     chain = _build(src, names, parts, x_unit)
     return ChainFile(chain=chain, **parts)
@@ -356,11 +400,69 @@ def _step(r: _Reader, i: int, item: Any, names: dict[str, tuple[str, str]]) -> S
         if "temperature_difference" in item:
             key = f"{where} temperature_difference"
             dt = _quantity(r, item["temperature_difference"], key, f"dT{k}")
+        surface = _surface(r, item, where, str(k), names, f"steps.{i}")
+        geometry, energy = _master(r, item, where, k, names, f"steps.{i}")
     for name, key in ((f"tp{k}", "readings_in_known"), (f"t{k}", "readings_in_new"),
                       (f"alpha{k}", "temperature_coefficient"),
                       (f"dT{k}", "temperature_difference")):  # fmt: skip
         names[name] = (f"{where} {key}", f"steps.{i}")
-    return StepUpStep(known, new, alpha, dt, label)
+    return StepUpStep(known, new, alpha, dt, label, surface, geometry, energy)
+
+
+def _surface(
+    r: _Reader,
+    t: Mapping[str, Any],
+    where: str,
+    liquid: str,
+    names: dict[str, tuple[str, str]],
+    part: str,
+) -> LiquidSurface | None:
+    """σ and ρ of a liquid (``surface_tension`` and ``density``, both or neither)."""
+    given = [k for k in SURFACE_KEYS if k in t]
+    if not given:
+        return None
+    if len(given) == 1:
+        raise r.fail(
+            where,
+            f"{given[0]} needs {'density' if given[0] != 'density' else 'surface_tension'} "
+            "too (σ and ρ of the liquid go together, for the surface-tension terms)",
+        )
+    quantities = []
+    for key, prefix in zip(SURFACE_KEYS, ("sigma", "rho"), strict=True):
+        quantities.append(_quantity(r, t[key], f"{where} {key}", f"{prefix}{liquid}"))
+        names[f"{prefix}{liquid}"] = (f"{where} {key}", part)
+    return LiquidSurface(*quantities)
+
+
+def _master(
+    r: _Reader,
+    t: Mapping[str, Any],
+    where: str,
+    master: int,
+    names: dict[str, tuple[str, str]],
+    part: str,
+) -> tuple[MeniscusGeometry | None, InputQuantity | None]:
+    """The meniscus geometry (all three keys or none) and E of the master ``t`` calibrates."""
+    energy = None
+    if "kinetic_energy" in t:
+        energy = _quantity(r, t["kinetic_energy"], f"{where} kinetic_energy", f"E{master}")
+        names[f"E{master}"] = (f"{where} kinetic_energy", part)
+    keys = MASTER_KEYS[1:]
+    given = [k for k in keys if k in t]
+    if not given:
+        return None, energy
+    if len(given) < len(keys):
+        missing = ", ".join(k for k in keys if k not in t)
+        raise r.fail(
+            where,
+            f"{', '.join(given)} need{'s' if len(given) == 1 else ''} {missing} too (the meniscus geometry of "
+            f"master {master}: upper_radius, lower_radius and driving_head go together)",
+        )
+    quantities = []
+    for key, prefix in zip(keys, ("r_u", "r_l", "h"), strict=True):
+        quantities.append(_quantity(r, t[key], f"{where} {key}", f"{prefix}{master}"))
+        names[f"{prefix}{master}"] = (f"{where} {key}", part)
+    return MeniscusGeometry(*quantities), energy
 
 
 def _certified(
@@ -377,9 +479,10 @@ def _certified(
         if "temperature_coefficient" in c:
             where = "[certified] temperature_coefficient"
             alpha = _quantity(r, c["temperature_coefficient"], where, "alpha_X")
+        surface = _surface(r, c, "[certified]", "_X", names, "certified")
     names["t_X"] = ("[certified] readings", "certified")
     names["alpha_X"] = ("[certified] temperature_coefficient", "certified")
-    return CertifiedLiquid(t_x, alpha), label, unit
+    return CertifiedLiquid(t_x, alpha, surface), label, unit
 
 
 def _check_pairs(
@@ -414,6 +517,13 @@ def _check_pairs(
                     "[thermometer_error] or a temperature_difference; leave it out",
                     where=f"steps.{i}",
                 )
+        if s.temperature_coefficient is not None and s.temperature_difference is None:
+            raise BudgetFileError(
+                f"{src}: {where} temperature_coefficient has no effect without a "
+                "temperature_difference ([thermometer_error] acts on both viscometers of a step "
+                "and cancels); leave it out",
+                where=f"steps.{i}",
+            )
     if certified is not None and thermometer is not None:
         if certified.temperature_coefficient is None:
             raise BudgetFileError(
@@ -446,6 +556,9 @@ def _build(
             water_temperature_coefficient=parts["water_temperature_coefficient"],
             certified=certified, unit=x_unit if certified is not None else parts["unit"],
             minimum_flow_time=parts["minimum_flow_time"], **({"title": title} if title else {}),
+            water_surface=parts["water_surface"],
+            first_master_geometry=parts["first_master_geometry"],
+            first_master_kinetic_energy=parts["first_master_kinetic_energy"],
         )  # fmt: skip
     except ViscometryError as exc:
         where = getattr(exc, "where", None) or ""

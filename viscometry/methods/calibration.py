@@ -30,6 +30,13 @@ correlation they cause between the steps is carried automatically: δT cancels i
 comparison step, and for a certified liquid its net sensitivity is (α_w − α_X)·ν_X — not the
 root-sum-square of separate, independent counts.
 
+Optional terms at each measurement (see :func:`step_up_chain`): the kinetic-energy term E_j/t²
+of the master (ν = C t − E/t², ISO 3105 / ASTM D446) and the surface-tension factor 1 + S of a
+constant used with another liquid than the one that calibrated it,
+S = 2(1/r_u − 1/r_l)(σ_c/ρ_c − σ_x/ρ_x)/(g h) (ISO 3105 / ASTM D446, form from memory); each
+master's E and each liquid's σ, ρ is one input, so the correlation they cause between steps is
+carried too.
+
 References
 ----------
 ASTM D2162 (master viscometers, step-up procedure: factor-3 steps, two references within
@@ -687,6 +694,12 @@ def _step_factor(k: int, step: StepUpStep, shared: sp.Expr, inputs: list[InputQu
         raise InputError(
             f"step {k}: a temperature_coefficient without a thermometer_error or a "
             "temperature_difference has no effect; leave it out"
+        )
+    if local == 0:
+        raise InputError(
+            f"step {k}: a temperature_coefficient without a temperature_difference has no "
+            "effect (the thermometer_error acts on both viscometers of a step and cancels); "
+            "leave it out"
         )
     return (1 + ak * (shared + local)) / (1 + ak * shared)
 
