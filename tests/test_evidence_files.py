@@ -3,12 +3,17 @@ that names the file, the row and (where there is one) the column."""
 
 from __future__ import annotations
 
+import datetime as _dt
+import math as _math
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from viscometry.cli import main
-from viscometry.errors import BudgetFileError
+from viscometry.errors import BudgetFileError, ViscometryError
+from viscometry.evidence import fit_drift
 from viscometry.io.acceptance import load_timings, loads_timings
 from viscometry.io.history import HISTORY_FORMAT, load_history, loads_history
 
@@ -135,3 +140,72 @@ def test_hostile_timings_are_refused_with_one_line(case):
         loads_timings(text, "t.csv")
     assert str(info.value).startswith("t.csv: ") and "\n" not in str(info.value)
     assert expected in str(info.value)
+
+
+# ------------------------------------------------------------------------------- fuzzing
+FUZZ = settings(max_examples=150, derandomize=True, deadline=_dt.timedelta(seconds=5),
+                suppress_health_check=[HealthCheck.too_slow], database=None)  # fmt: skip
+CELL = st.one_of(
+    st.sampled_from(["2020-01-10", "2021-06-30", "1999-12-31", "0.03", "1e-5", "2", "-1",
+                     "nan", "inf", "1e308", "1e-320", "", "x", '"a,b"', "0", "9999-12-31"]),
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.text(max_size=6),
+)  # fmt: skip
+ROW = st.lists(CELL, min_size=0, max_size=6).map(",".join)
+
+
+@FUZZ
+@given(st.lists(ROW, max_size=8))
+def test_any_history_text_is_read_or_refused_with_a_file_error(rows):
+    text = HEAD + "date,C,U,k,source\n" + "\n".join(rows)
+    try:
+        h = loads_history(text, "f.csv")
+    except BudgetFileError as exc:
+        assert str(exc).startswith("f.csv: ") and "\n" not in str(exc)
+        return
+    _check_fit(h)
+
+
+def _check_fit(h):
+    if len(h.history.records) < 2:
+        return
+    try:
+        fit = fit_drift(h.history)
+    except ViscometryError as exc:  # one certificate with all the weight
+        assert "cannot be fitted" in str(exc)
+        return
+    p = fit.predict(h.history.last.date + _dt.timedelta(days=400))
+    values = (fit.slope, fit.slope_uncertainty, p.constant, p.standard_uncertainty)
+    assert all(_math.isfinite(v) for v in values)
+    try:
+        t = fit.recalibration_interval()
+    except ViscometryError as exc:  # only the year-9999 overflow is refused
+        assert "after the year" in str(exc)
+    else:
+        assert 0 < t.years <= t.longest
+
+
+NUMBER = st.floats(min_value=1e-40, max_value=1e40)
+RELATIVE = st.floats(min_value=1e-13, max_value=1.0)
+
+
+@FUZZ
+@given(
+    st.lists(
+        st.tuples(st.integers(1, 20000), NUMBER, RELATIVE, st.sampled_from(["1", "2", "2.5"])),
+        min_size=2,
+        max_size=6,
+    )
+)
+def test_sorted_certificates_with_any_numbers_fit_or_are_refused(rows):
+    day = _dt.date(2000, 1, 1)
+    lines = []
+    for step, c, rel, k in rows:
+        day += _dt.timedelta(days=step)
+        lines.append(f"{day},{c!r},{c * rel!r},{k},cert")
+    try:
+        h = loads_history(HEAD + "date,C,U,k,source\n" + "\n".join(lines), "f.csv")
+    except BudgetFileError as exc:
+        assert "row " in str(exc) and "\n" not in str(exc)
+        return
+    _check_fit(h)

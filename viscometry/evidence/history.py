@@ -56,6 +56,14 @@ __all__ = [
 DAYS_PER_YEAR = 365.25
 #: Most certificates a history may hold.
 MAX_RECORDS = 1000
+#: Range of a constant's magnitude accepted, in the history's unit (guards the arithmetic).
+CONSTANT_RANGE = (1e-30, 1e30)
+#: Range of U/C accepted for a certificate [1].
+RELATIVE_UNCERTAINTY_RANGE = (1e-12, 1.0)
+#: Range of a certificate's coverage factor accepted [1].
+COVERAGE_FACTOR_RANGE = (1.0, 10.0)
+#: Longest recalibration interval that may be asked for [a].
+LONGEST_INTERVAL = 100.0
 #: Flags a fit may carry (rendered as warnings by :mod:`viscometry.evidence_text`).
 FLAGS = ("few_certificates", "scatter_exceeds_uncertainties", "covariance_inflated")
 
@@ -90,6 +98,22 @@ class CalibrationRecord:
         c = positive(self.constant, "constant")
         u = positive(self.expanded_uncertainty, "expanded_uncertainty")
         k = positive(self.coverage_factor, "coverage_factor")
+        if not CONSTANT_RANGE[0] <= c <= CONSTANT_RANGE[1]:
+            raise InputError(
+                f"constant must lie between {CONSTANT_RANGE[0]:g} and {CONSTANT_RANGE[1]:g}, "
+                f"got {c!r}"
+            )
+        lo, hi = RELATIVE_UNCERTAINTY_RANGE
+        if not lo * c <= u < hi * c:
+            raise InputError(
+                f"expanded_uncertainty must be below the constant and above {lo:g} of it, "
+                f"got U = {u!r} for C = {c!r}"
+            )
+        if not COVERAGE_FACTOR_RANGE[0] <= k <= COVERAGE_FACTOR_RANGE[1]:
+            raise InputError(
+                f"coverage_factor must lie between {COVERAGE_FACTOR_RANGE[0]:g} and "
+                f"{COVERAGE_FACTOR_RANGE[1]:g}, got {k!r}"
+            )
         object.__setattr__(self, "constant", c)
         object.__setattr__(self, "expanded_uncertainty", u)
         object.__setattr__(self, "coverage_factor", k)
@@ -330,14 +354,22 @@ class DriftFit:
             raise InputError(f"fraction must be at most 1 (a share of U), got {f!r}")
         k = positive(coverage_factor, "coverage_factor")
         cap = positive(longest, "longest")
+        if cap > LONGEST_INTERVAL:
+            raise InputError(f"longest must be at most {LONGEST_INTERVAL:g} years, got {cap!r}")
         rate = abs(self.slope) + k * self.slope_uncertainty
         years = f * self.history.last.expanded_uncertainty / rate if rate > 0 else math.inf
         capped = years > cap
         years = min(years, cap)
         days = int(math.floor(years * DAYS_PER_YEAR))
+        try:
+            next_date = self.history.last.date + _dt.timedelta(days=days)
+        except OverflowError:
+            raise InputError(
+                f"the next calibration date falls after the year {_dt.MAXYEAR}"
+            ) from None
         return RecalibrationInterval(
             years=years, fraction=f, coverage_factor=k, longest=cap, capped=capped,
-            next_date=self.history.last.date + _dt.timedelta(days=days),
+            next_date=next_date,
         )  # fmt: skip
 
 
@@ -373,13 +405,21 @@ def fit_drift(history: CalibrationHistory, *, inflate: bool = True) -> DriftFit:
     if len(recs) < 2:
         raise InputError(f"a drift fit needs at least two certificates, got {len(recs)}")
     x = np.array([history.years_since_last(r.date) for r in recs])
-    y = np.array([r.constant for r in recs])
-    u = np.array([r.standard_uncertainty for r in recs])
+    scale = history.last.constant  # fitted in units of C_last: no overflow in the weights
+    y = np.array([r.constant for r in recs]) / scale
+    u = np.array([r.standard_uncertainty for r in recs]) / scale
     a = np.column_stack([np.ones_like(x), x])
-    fit = weighted_least_squares(a, y, u, absolute_sigma=True)
-    # g = row "slope" of (AᵀWA)⁻¹AᵀW: the slope's weight of each certificate.
-    gain = fit.covariance @ (a / u[:, None] ** 2).T
-    cross = float(gain[1, -1]) * float(u[-1]) ** 2
+    try:
+        raw = weighted_least_squares(a, y, u, absolute_sigma=True)
+    except InputError as exc:
+        raise InputError(
+            "the certificates cannot be fitted: their uncertainties differ so much that one "
+            f"certificate carries all the weight ({exc})"
+        ) from None
+    # g = row "slope" of (AᵀWA)⁻¹AᵀW: the slope's weight of each certificate (scale-free).
+    gain = raw.covariance @ (a / u[:, None] ** 2).T
+    cross = float(gain[1, -1]) * (float(u[-1]) * scale) ** 2
+    fit = _rescaled(raw, scale)
     nu = fit.degrees_of_freedom
     birge = fit.residual_standard_deviation if nu > 0 else math.nan
     flags = ["few_certificates"] if len(recs) < 3 else []
@@ -398,6 +438,16 @@ def fit_drift(history: CalibrationHistory, *, inflate: bool = True) -> DriftFit:
                 chi_squared=fit.chi_squared, covariance_scaled=True,
             )  # fmt: skip
     return DriftFit(history, fit, cross, float(birge), inflated, tuple(flags))
+
+
+def _rescaled(fit: LeastSquaresResult, scale: float) -> LeastSquaresResult:
+    """The fit of y/scale turned back into the fit of y."""
+    return LeastSquaresResult(
+        parameters=_frozen(fit.parameters * scale), covariance=_frozen(fit.covariance * scale**2),
+        residuals=_frozen(fit.residuals * scale), degrees_of_freedom=fit.degrees_of_freedom,
+        residual_standard_deviation=fit.residual_standard_deviation,
+        chi_squared=fit.chi_squared, covariance_scaled=fit.covariance_scaled,
+    )  # fmt: skip
 
 
 def _frozen(array: np.ndarray) -> np.ndarray:

@@ -48,6 +48,8 @@ PREAMBLE_KEYS = ("format", "viscometer", "unit")
 #: Default unit of C and U.
 DEFAULT_UNIT = "mm^2/s^2"
 _MAX_TEXT = 200
+#: A record's field → the column a refusal names.
+_FIELD_COLUMNS = (("constant", "C"), ("expanded_uncertainty", "U"), ("coverage_factor", "k"))
 
 
 @dataclass(frozen=True)
@@ -253,7 +255,11 @@ def _records(
             )
         c, u, k = (_number(src, line, name, cells[col[name]]) for name in ("C", "U", "k"))
         source = cells[col["source"]][:_MAX_TEXT]
-        records.append(CalibrationRecord(date, c, u, k, source))
+        try:
+            records.append(CalibrationRecord(date, c, u, k, source))
+        except ViscometryError as exc:
+            column = next((col for key, col in _FIELD_COLUMNS if str(exc).startswith(key)), "C")
+            raise BudgetFileError(f"{src}: row {line}, column {column}: {exc}") from None
         lines.append(line)
     if not records:
         raise BudgetFileError(f"{src}: row {line}: a header but no certificate rows")
