@@ -269,3 +269,34 @@ def test_chain_file_refusals(old: str, new: str, message: str) -> None:
     assert old in text
     with pytest.raises(BudgetFileError, match=message):
         loads_chain_file(text.replace(old, new, 1), "chain.toml")
+
+
+def test_step_coefficient_without_a_temperature_difference_is_refused() -> None:
+    # exact analytic: τ_k = (1 + α_k δT)/(1 + α_k δT) = 1 without ΔT_k, so α_k cannot act
+    step = StepUpStep(
+        _q("tp2"), _q("t2"), temperature_coefficient=Q.normal("a", -0.03, 0.003, "1/K")
+    )
+    with pytest.raises(InputError, match=r"step 2: a temperature_coefficient without a "
+                       r"temperature_difference has no effect \(the thermometer_error"):  # fmt: skip
+        step_up_chain(
+            _q("nu_w"), _q("t1"), [step], thermometer_error=Q.normal("e", 0.0, 0.01, "K"),
+            water_temperature_coefficient=Q.normal("f", -0.0243, 0.0002, "1/K"),
+        )  # fmt: skip
+    text = CHAIN_EXAMPLE.read_text(encoding="utf-8")
+    line = 'temperature_difference = { value = 0.0, standard_uncertainty = 0.002, unit = "K" }\n'
+    with pytest.raises(BudgetFileError, match=r"entry 1 \(S2\) temperature_coefficient has no "
+                       r"effect without a temperature_difference"):  # fmt: skip
+        loads_chain_file(text.replace(line, "", 1), "chain.toml")
+
+
+def test_methods_command_lists_the_new_inputs(capsys: pytest.CaptureFixture[str]) -> None:
+    from viscometry.cli import main
+
+    for name, inputs in (
+        ("glass_capillary_thermal_expansion", ("alpha_g", "dT_c")),
+        ("glass_capillary_fixed_charge", ("V_c", "beta", "dT_f", "A_l", "h")),
+        ("pressure_capillary_sample_head", ("h_s", "dh_s", "g")),
+    ):
+        assert main(["methods", name]) == 0
+        out = capsys.readouterr().out
+        assert all(f"\n    {i} " in out for i in inputs), out  # one row per input
