@@ -209,3 +209,18 @@ def test_a_budget_file_takes_the_stability_term_from_the_json(capsys):
     assert result.value == pytest.approx(d["prediction"]["constant"], rel=1e-12)
     u = d["prediction"]["standard_uncertainty"]
     assert result.standard_uncertainty == pytest.approx(u, rel=1e-9)
+
+
+def test_hostile_names_are_escaped_on_the_terminal(tmp_path, capsys):
+    f = tmp_path / "h.csv"
+    f.write_text(
+        "format,viscometry-history/1\nviscometer,\x1b[31mred\u202eevil\n"
+        "date,C,U,k,source\n2020-01-10,0.010021,0.000015,2,\x07bell\n"
+        "2022-01-12,0.010026,0.000015,2,B\n",
+        encoding="utf-8",
+    )
+    assert main(["drift", str(f), "--date", "2023-01-01"]) == 0
+    out = capsys.readouterr().out
+    assert "\x1b" not in out and "\u202e" not in out and "\x07" not in out
+    d = _json(capsys, "drift", f, "--date", "2023-01-01", "--json")
+    assert d["viscometer"] == "\x1b[31mred\u202eevil"  # exact in JSON, escaped in its text

@@ -182,3 +182,21 @@ def test_a_budget_takes_the_stability_term_and_reproduces_the_prediction():
     p = fit.predict(date)
     assert result.value == pytest.approx(p.constant, rel=1e-12)
     assert result.standard_uncertainty == pytest.approx(p.standard_uncertainty, rel=1e-9)
+
+
+def test_history_figure_draws_certificates_band_and_prediction():
+    from matplotlib.container import ErrorbarContainer
+
+    from viscometry.evidence_plots import history_figure
+
+    fit = fit_drift(_history())
+    p = fit.predict(dt.date(2026, 5, 1))
+    fig = history_figure(fit, p)
+    (ax,) = fig.axes
+    bars = [c for c in ax.containers if isinstance(c, ErrorbarContainer)]
+    assert len(bars) == 2  # certificates and the prediction
+    # the certificates' error bars are ±U (exact: the stated numbers)
+    segments = bars[0].lines[2][0].get_segments()
+    assert [s[1][1] - s[0][1] for s in segments] == pytest.approx([2 * x for x in U], rel=1e-9)
+    assert len(ax.collections) >= 1  # the band
+    assert "C [mm²/s²]" in ax.get_ylabel()
