@@ -224,3 +224,24 @@ def test_hostile_names_are_escaped_on_the_terminal(tmp_path, capsys):
     assert "\x1b" not in out and "\u202e" not in out and "\x07" not in out
     d = _json(capsys, "drift", f, "--date", "2023-01-01", "--json")
     assert d["viscometer"] == "\x1b[31mred\u202eevil"  # exact in JSON, escaped in its text
+
+
+def test_the_printed_budget_input_table_loads_in_a_budget_file(capsys):
+    from viscometry.io import loads_budget
+
+    assert main(["drift", str(HISTORY), "--date", "2026-05-01"]) == 0
+    out = capsys.readouterr().out.splitlines()
+    start = out.index("  [inputs.dC_drift]")
+    table = [line.strip() for line in out[start : start + 7] if line.startswith("  ")]
+    text = (
+        'format = "viscometry-budget/1"\n[measurand]\nname = "C"\nunit = "mm^2/s^2"\n'
+        'model = "C_last + dC_drift"\n[inputs.C_last]\nvalue = 0.030035\nunit = "mm^2/s^2"\n'
+        "expanded_uncertainty = 0.000021\ncoverage_factor = 2\n" + "\n".join(table) + "\n"
+    )
+    result = loads_budget(text, "snippet.toml").budget.evaluate()
+    d = _json(capsys, "drift", HISTORY, "--date", "2026-05-01", "--json")
+    # exact analytic: the same numbers as the prediction
+    assert result.value == pytest.approx(d["prediction"]["constant"], rel=1e-12)
+    assert result.standard_uncertainty == pytest.approx(
+        d["prediction"]["standard_uncertainty"], rel=1e-9
+    )

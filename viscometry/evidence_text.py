@@ -16,9 +16,11 @@ from viscometry.text import format_like, format_significant, one_line, unit_suff
 if TYPE_CHECKING:  # pragma: no cover
     from viscometry.evidence.acceptance import AcceptanceLimit, AcceptanceVerdict
     from viscometry.evidence.history import DriftFit, Prediction, RecalibrationInterval
+    from viscometry.gum.inputs import InputQuantity
 
 __all__ = [
     "ACCEPTANCE_CAUTION",
+    "budget_input_lines",
     "drift_lines",
     "fit_warnings",
     "limit_lines",
@@ -159,6 +161,33 @@ def drift_lines(
             f" next calibration by {t.next_date}: drift + {_g(t.coverage_factor, 3)}·u(b) stays "
             f"within {_g(100 * t.fraction, 3)} % of U = {_n(h.last.expanded_uncertainty, 2)}{u}"
         )
+    return lines
+
+
+def budget_input_lines(term: InputQuantity) -> list[str]:
+    """The stability term as a budget-file input table (TOML), ready to paste.
+
+    Examples
+    --------
+    >>> from viscometry.gum import InputQuantity
+    >>> print("\\n".join(budget_input_lines(InputQuantity.normal("dC", 6e-06, 7.6e-06, "mm^2/s^2"))))
+    [inputs.dC]
+    value = 6e-06
+    unit = "mm^2/s^2"
+    standard_uncertainty = 7.6e-06
+    """
+    import json
+
+    lines = [
+        f"[inputs.{term.name}]",
+        f"value = {term.value!r}",
+        f"unit = {json.dumps(term.unit)}",
+        f"standard_uncertainty = {term.standard_uncertainty!r}",
+    ]
+    for key in ("description", "source"):
+        text = getattr(term, key)
+        if text:
+            lines.append(f"{key} = {json.dumps(text)}")  # ASCII escapes: valid TOML strings
     return lines
 
 

@@ -58,7 +58,12 @@ def run(args: argparse.Namespace) -> int:
     from viscometry.commands._common import print_json
     from viscometry.errors import ViscometryError
     from viscometry.evidence.history import fit_drift
-    from viscometry.evidence_text import drift_lines, fit_warnings, warning_lines
+    from viscometry.evidence_text import (
+        budget_input_lines,
+        drift_lines,
+        fit_warnings,
+        warning_lines,
+    )
     from viscometry.io.history import load_history
 
     hf = load_history(args.file)
@@ -80,6 +85,8 @@ def run(args: argparse.Namespace) -> int:
         print_json(_to_dict(hf, fit, prediction, interval, term, warnings), source=hf.source)
         return 0
     print("\n".join(drift_lines(fit, prediction, interval)))
+    print("as a budget input (the model adds it to the last certificate's C):")
+    print("\n".join(f"  {line}" for line in budget_input_lines(term)))
     for line in warning_lines(warnings):
         print(line)
     print("\n".join(_provenance(hf)))
