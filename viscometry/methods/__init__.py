@@ -41,6 +41,7 @@ _LAZY = {
         "water_reference_input",
         "water_temperature_coefficient",
     ),
+    "viscometry.methods.dilute_solution": ("DILUTE_RELATIVE_VISCOSITY", "VISCOSITY_NUMBER"),
     "viscometry.methods.dynamic": (
         "DYNAMIC_FROM_KINEMATIC",
         "DYNAMIC_FROM_KINEMATIC_CORRELATED",
@@ -90,6 +91,8 @@ _ORDER = (
     "CONSTANT_BY_COMPARISON",
     "DYNAMIC_FROM_KINEMATIC",
     "DYNAMIC_FROM_KINEMATIC_CORRELATED",
+    "DILUTE_RELATIVE_VISCOSITY",
+    "VISCOSITY_NUMBER",
     "FALLING_SPHERE",
     "FALLING_SPHERE_STOKES",
     "FALLING_SPHERE_HABERMAN_SAYRE",

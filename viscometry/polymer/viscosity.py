@@ -115,7 +115,7 @@ def specific_viscosity(relative: Any) -> Any:
     >>> round(float(specific_viscosity(1.25)), 12)
     0.25
     """
-    return relative - 1.0
+    return relative - 1
 
 
 def reduced_viscosity(relative: Any, concentration: Any) -> Any:
@@ -129,7 +129,7 @@ def reduced_viscosity(relative: Any, concentration: Any) -> Any:
     >>> round(float(reduced_viscosity(1.25, 5.0)), 12)  # 5 kg/m³ = 0.5 g/dL → 0.05 m³/kg
     0.05
     """
-    return (relative - 1.0) / concentration
+    return (relative - 1) / concentration
 
 
 def viscosity_number(relative: Any, concentration: Any) -> Any:
