@@ -308,3 +308,11 @@ def test_series_refuses_bad_input():
     with pytest.raises(InputError, match="solution labels must differ"):
         DiluteSeries(s.polymer_mass, s.stock_volume, s.solvent_flow_time,
                      (s.solutions[0], s.solutions[1], Solution("c1", Q.normal("t8", 1.0, 0.1))))  # fmt: skip
+
+
+def test_points_without_an_uncertainty_of_their_own_are_refused():
+    s = make_series(u_t=0.0)  # no flow-time or volume uncertainty: the covariance is singular
+    bare = tuple(Solution(x.label, x.flow_time) for x in s.solutions)
+    fractions_lost = DiluteSeries(s.polymer_mass, s.stock_volume, s.solvent_flow_time, bare)
+    with pytest.raises(InputError, match="covariance is singular"):
+        extrapolate(fractions_lost)

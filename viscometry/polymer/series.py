@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import warnings
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
@@ -404,7 +404,6 @@ class Extrapolation:
     single_points: tuple[SinglePoint, ...]
     warnings: tuple[str, ...]
     coverage_probability: float
-    _gradients: dict = field(default_factory=dict, repr=False)
 
     def single_point(self, form: str, label: str) -> SinglePoint:
         """The single-point estimate of ``form`` at the solution ``label``."""
@@ -534,7 +533,6 @@ def extrapolate(
         huggins=huggins, kraemer=kraemer, difference=difference,
         consistent=bool(abs(d) <= difference.expanded_uncertainty), single_points=singles,
         warnings=tuple(notes), coverage_probability=p,
-        _gradients={"huggins": g_h, "kraemer": g_k},
     )  # fmt: skip
 
 
