@@ -149,7 +149,9 @@ def test_kinetic_terms_alone_and_the_neutral_form() -> None:
 
 def test_refusals_name_what_is_missing_or_idle() -> None:
     step = StepUpStep(_q("tp2"), _q("t2"))
-    with pytest.raises(InputError, match=r"geometry of master 1 needs .*missing: water, liquid 2"):
+    with pytest.raises(
+        InputError, match=r"geometry of master 1 \(step 2\) needs .*missing: water, liquid 2"
+    ):
         step_up_chain(_q("nu_w"), _q("t1"), [step], first_master_geometry=_geometry(1))
     with pytest.raises(InputError, match=r"surface tension and density of water: used by no"):
         step_up_chain(_q("nu_w"), _q("t1"), [step], water_surface=_surface("_w"))
@@ -259,7 +261,8 @@ def test_example_chain_file_follows_the_working_equation() -> None:
          r"\[\[steps\]\] entry 1 \(S2\) upper_radius, lower_radius need driving_head too"),
         ('surface_tension = { value = 30.9, unit = "mN/m", standard_uncertainty = 0.3 }\n'
          'density = { value = 874.0, unit = "kg/m^3", standard_uncertainty = 0.5 }\n', "",
-         r"geometry of master 3 needs .*missing: the certified liquid"),
+         r"entry 2 \(S3\) upper_radius the meniscus geometry of master 3 \(certified liquid\) "
+         r"needs .*missing: the certified liquid"),
         ('kinetic_energy = { value = 20.0, unit = "mm^2*s"', 'kinetic_energy = { value = 20.0, unit = "mm^2"',
          r"\[\[steps\]\] entry 1 \(S2\) kinetic_energy"),
     ],

@@ -464,8 +464,9 @@ class _Terms:
         missing = [liq for liq in (known, new) if liq not in self.ratio]
         if missing:
             raise InputError(
-                f"{label}: the meniscus geometry of master {master} needs the surface tension "
-                f"and density of the liquids on both sides (missing: {_liquid_names(missing)})"
+                f"the meniscus geometry of master {master} ({label}) needs the surface tension "
+                f"and density of the liquids on both sides (missing: {_liquid_names(missing)})",
+                where=f"inputs.r_u{master}",
             )
         for key in (f"master {master}", f"liquid {known}", f"liquid {new}"):
             self.unused.pop(key, None)
@@ -484,10 +485,13 @@ class _Terms:
 
     def refuse_unused(self) -> None:
         if self.unused:
+            kind, _, which = next(iter(self.unused)).partition(" ")
+            first = f"r_u{which}" if kind == "master" else f"sigma{which}"
             raise InputError(
                 f"{'; '.join(self.unused.values())}: used by no surface-tension term (a term "
                 "needs the geometry of the master and σ, ρ of the liquids on both sides); "
-                "leave them out"
+                "leave them out",
+                where=f"inputs.{first}",
             )
 
 
