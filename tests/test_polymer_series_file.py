@@ -14,6 +14,7 @@ import math
 import re
 from pathlib import Path
 
+import numpy as np
 import pytest
 import uncertainties
 
@@ -161,6 +162,54 @@ def test_cli_json_matches_library_and_independent_reference():
         run_cli("dilute", str(EXAMPLE), "--json", "--trials", "20000", "--seed", "5")[1]
     )
     assert again == d  # seeded: the same output
+
+
+def _gls_intercept(c, y, w):
+    """Intercept of y = b0 + b1·c by least squares with weight matrix w, in the arithmetic
+    of whatever c and y are (here `uncertainties` numbers)."""
+    n = len(c)
+
+    def dot(p, q):
+        return sum(p[i] * w[i, j] * q[j] for i in range(n) for j in range(n))
+
+    one = [1.0] * n
+    s11, s1c, scc, s1y, scy = dot(one, one), dot(one, c), dot(c, c), dot(one, y), dot(c, y)
+    return (scc * s1y - s1c * scy) / (s11 * scc - s1c**2)
+
+
+def test_example_through_the_cli_against_the_uncertainties_package():
+    # independent reference: the example's chain (weighings → concentrations → flow times →
+    # fit with the same fixed weights) in `uncertainties` arithmetic; [η] in dL/g = 10 × m³/kg
+    from uncertainties import umath
+
+    code, out, err = run_cli("dilute", str(EXAMPLE), "--json", "--trials", "0")
+    assert code == 0, err
+    d = json.loads(out)
+    sf = load_series(EXAMPLE)
+    series = sf.series
+    v = {
+        q.name: uncertainties.ufloat(q.value, q.standard_uncertainty, q.name)
+        for q in series.inputs()
+    }
+    c_stock = v["m_p"] * v["w_p"] / v["V_0"]
+    cs, rel = [], []
+    for s in series.solutions:
+        a, f = s.aliquot_volume, s.final_volume
+        cs.append(c_stock if a is None else c_stock * v[a.name] / v[f.name])
+        t, t0, cc, e = v[s.flow_time.name], v["t_0"], v["C"], v["E"]
+        rel.append((cc * t - e / t**2) / (cc * t0 - e / t0**2))
+    for form, ys in (("huggins", [(r - 1) / c for r, c in zip(rel, cs, strict=True)]),
+                     ("kraemer", [umath.log(r) / c for r, c in zip(rel, cs, strict=True)])):  # fmt: skip
+        w = np.linalg.inv(uncertainties.covariance_matrix(ys))
+        b0 = _gls_intercept(cs, ys, w)
+        got = d[form]["intrinsic_viscosity"]
+        assert got["value"] == pytest.approx(b0.nominal_value * 10.0, rel=1e-12)
+        assert got["standard_uncertainty"] == pytest.approx(b0.std_dev * 10.0, rel=1e-7)
+    # the concentrations themselves: exact analytic from the file (0.2250 g · 0.9962 / 25 mL)
+    assert d["points"][0]["concentration"] == pytest.approx(0.2250 * 0.9962 / 25.0 * 100, rel=1e-13)
+    assert d["points"][1]["concentration"] == pytest.approx(
+        0.2250 * 0.9962 / 25.0 * 100 * 20 / 25, rel=1e-13
+    )
 
 
 def test_cli_text_report_and_errors(tmp_path):
