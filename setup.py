@@ -16,7 +16,7 @@ from setuptools.command.build_py import build_py
 #: viscometry.workspace.SHIPPED_FILES (tests/test_workspace.py compares them); hidden files and
 #: folders (Jupyter's .ipynb_checkpoints) are never shipped.
 SHIPPED = {
-    "examples": ("**/*.toml",),
+    "examples": ("**/*.toml", "**/*.csv"),
     "workbooks": ("*.ipynb", "sanitize.cfg"),
     "docs": ("*.md",),
 }

@@ -36,7 +36,7 @@ SHIPPED = ("examples", "workbooks", "docs")
 #: same patterns (a test compares them), so a workspace made from a source checkout holds the
 #: same files as one made from an installed package.
 SHIPPED_FILES = {
-    "examples": ("**/*.toml",),
+    "examples": ("**/*.toml", "**/*.csv"),
     "workbooks": ("*.ipynb", "sanitize.cfg"),
     "docs": ("*.md",),
 }
