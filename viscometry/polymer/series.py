@@ -55,6 +55,8 @@ __all__ = [
 MAX_SOLUTIONS = 50
 #: Fewest solutions a series may have (two parameters and one degree of freedom to check).
 MIN_SOLUTIONS = 3
+#: Most input draws held in memory at once by :func:`monte_carlo_check` (inputs × trials).
+MONTE_CARLO_CHUNK_VALUES = 2_000_000
 #: Significance level below which the lack-of-fit χ² of a line is reported [1] (our
 #: default, no source).
 LACK_OF_FIT_LEVEL = 0.01
@@ -608,7 +610,8 @@ def monte_carlo_check(
     trials : int, optional
         Number M of draws [1], at most :data:`viscometry.gum.montecarlo.MAX_TRIALS`.
     seed : int, optional
-        Seed of the draws; the same seed gives the same numbers.
+        Seed of the draws; the same seed gives the same numbers. The draws come in chunks
+        of at most :data:`MONTE_CARLO_CHUNK_VALUES` values from one generator.
 
     Returns
     -------
@@ -618,12 +621,22 @@ def monte_carlo_check(
 
     m = check_trials(trials, "trials")
     series = extrapolation.series
-    x = draw_inputs(series.inputs(), None, m, seed=seed)
-    c, rel = series.points(list(x))
+    inputs = series.inputs()
+    fits = (extrapolation.huggins, extrapolation.kraemer)
+    rng = np.random.default_rng(seed)
+    # Chunks bound the memory of the draws (inputs × trials) whatever the number of trials.
+    chunk = max(1, MONTE_CARLO_CHUNK_VALUES // len(inputs))
+    values = np.empty((2, m))
+    for start in range(0, m, chunk):
+        size = min(chunk, m - start)
+        c, rel = series.points(list(draw_inputs(inputs, None, size, rng)))
+        for k, fit in enumerate(fits):
+            values[k, start : start + size] = _gls_line(
+                c, _ordinates(fit.form, c, rel), fit.weight
+            )[0]
     p = extrapolation.coverage_probability
     out = []
-    for fit in (extrapolation.huggins, extrapolation.kraemer):
-        b0, _ = _gls_line(c, _ordinates(fit.form, c, rel), fit.weight)
+    for b0 in values:
         low, high = coverage_interval(np.sort(b0), p)
         out.append((float(np.mean(b0)), float(np.std(b0, ddof=1)), float(low), float(high)))
     return MonteCarloCheck(
