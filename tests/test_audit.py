@@ -524,11 +524,11 @@ def test_more_jobs_print_the_same_bytes_and_exit_code(
         captured = capsys.readouterr()
         out[jobs] = captured.out
         assert captured.err == ""  # no progress line: standard error is not a terminal
-    assert workers_do_the_work == [27, 27]  # every file but the first three, in workers
+    assert workers_do_the_work == [34, 34]  # every file but the first three, in workers
     assert out["2"] == out["2 started ahead"] == out["1"]
     assert code["2"] == code["2 started ahead"] == code["1"] == 2
     lines = out["1"].splitlines()
-    assert lines[-1] == "30 file(s): 28 match, 1 differs, 1 error"
+    assert lines[-1] == "37 file(s): 35 match, 1 differs, 1 error"
     assert lines[-3].startswith(f"ERROR    {folder / 'x_damaged.toml'}: missing key format")
     assert "counted as a damaged budget file: empty" in lines[-3]
     assert lines[-2].startswith(f"DIFFERS  {folder / 'x_differs.toml'}: value recorded")
