@@ -18,13 +18,13 @@ PRIMARY = EXAMPLES / "primary_capillary_poiseuille.toml"
 
 def test_the_examples_audit_clean_with_verdicts_in_words_and_colour(tmp_path: Path) -> None:
     panel = audit_panel(EXAMPLES, export_folder=tmp_path / "record")
-    assert {v.status for v in panel.verdicts} == {"match"} and len(panel.verdicts) == 20
+    assert {v.status for v in panel.verdicts} == {"match"} and len(panel.verdicts) == 27
     assert (
-        "audit PASSED: 20 budget file(s), 20 recorded result(s) confirmed"
+        "audit PASSED: 27 budget file(s), 27 recorded result(s) confirmed"
         in panel.summary_html.value
     )
     assert "color:#060" in panel.summary_html.value
-    assert panel.table_html.value.count("recorded result confirmed") >= 20
+    assert panel.table_html.value.count("recorded result confirmed") >= 27
 
 
 def test_a_changed_number_is_caught_and_shown_in_red(tmp_path: Path) -> None:
@@ -55,8 +55,8 @@ def test_export_keeps_the_record_where_the_auditor_says(tmp_path: Path) -> None:
     assert sorted(p.name for p in written) == ["audit.csv", "audit.html"]
     html_text = (tmp_path / "kept" / "record" / "audit.html").read_text(encoding="utf-8")
     assert "audit PASSED" in html_text and "local codes" in html_text
-    # a header, 20 audited budget files and the 2 files the search skipped (listed, not audited)
-    assert (tmp_path / "kept" / "record" / "audit.csv").read_text().count("\n") == 23
+    # a header, 27 audited budget files and the 4 files the search skipped (listed, not audited)
+    assert (tmp_path / "kept" / "record" / "audit.csv").read_text().count("\n") == 32
     assert panel.export_html.value.count("download=") == 2
 
 
@@ -96,11 +96,16 @@ def test_skipped_files_are_rows_of_the_table(tmp_path: Path) -> None:
     assert "<td>.ipynb_checkpoints</td>" in table and "hidden folder, not searched" in table
 
 
-def test_the_examples_show_their_two_other_files_as_skipped(tmp_path: Path) -> None:
+def test_the_examples_show_their_other_files_as_skipped(tmp_path: Path) -> None:
     panel = audit_panel(EXAMPLES, export_folder=tmp_path / "record")
     names = sorted(Path(s.path).name for s in panel.skipped)
-    assert names == ["ashcombe_step_up_chain.toml", "pressure_capillary_upgrades.toml"]
-    assert "; 2 skipped (listed in the table, not audited)" in panel.summary_html.value
+    assert names == [
+        "ashcombe_chain_surface_tension.toml",
+        "ashcombe_step_up_chain.toml",
+        "pet_resin_series.toml",
+        "pressure_capillary_upgrades.toml",
+    ]
+    assert "; 4 skipped (listed in the table, not audited)" in panel.summary_html.value
 
 
 def test_the_exported_record_lists_the_skipped_files_too(tmp_path: Path) -> None:
@@ -110,6 +115,6 @@ def test_the_exported_record_lists_the_skipped_files_too(tmp_path: Path) -> None
     page = (tmp_path / "record" / "audit.html").read_text(encoding="utf-8")
     csv = (tmp_path / "record" / "audit.csv").read_text(encoding="utf-8")
     assert len(written) == 2
-    assert "; 2 skipped (listed in the table, not audited)" in page
+    assert "; 4 skipped (listed in the table, not audited)" in page
     assert "pressure_capillary_upgrades.toml" in page and "not audited" in page
-    assert csv.count(",skipped,") == 2
+    assert csv.count(",skipped,") == 4
