@@ -6,7 +6,11 @@ determinations, and the calibration history of a viscometer constant.
   to do (accept, repeat, investigate);
 * :mod:`viscometry.evidence.history` — certificates of a viscometer constant, a weighted drift
   fit with its covariance, the constant predicted at a date, a stability term for a budget and
-  a recommended recalibration interval.
+  a recommended recalibration interval;
+* :mod:`viscometry.evidence.control` — the Shewhart chart of a check standard, its run rules
+  and the within-lab reproducibility s_Rw;
+* :mod:`viscometry.evidence.topdown` — proficiency rounds and their scores, the top-down
+  uncertainty (Nordtest TR 537 / ISO 21748) and the reconciliation with a budget's U.
 
 Files are read by :mod:`viscometry.io.history`; text comes from
 :mod:`viscometry.evidence_text`, charts from :mod:`viscometry.evidence_plots`.
@@ -30,6 +34,24 @@ _LAZY = {
         "repeatability_limit",
         "reproducibility_limit",
     ),
+    "viscometry.evidence.control": (
+        "ControlChart",
+        "ControlPoint",
+        "ControlRecord",
+        "RuleViolation",
+        "control_chart",
+        "run_rule_violations",
+    ),
+    "viscometry.evidence.topdown": (
+        "BudgetClaim",
+        "ConsistencyTest",
+        "ProficiencyHistory",
+        "ProficiencyRound",
+        "Reconciliation",
+        "TopDown",
+        "reconcile",
+        "top_down",
+    ),
     "viscometry.evidence.history": (
         "CalibrationHistory",
         "CalibrationRecord",
@@ -45,19 +67,33 @@ __all__ = [
     "ACTIONS",
     "AcceptanceLimit",
     "AcceptanceVerdict",
+    "BudgetClaim",
     "CRITICAL_RANGE_FACTORS",
     "CalibrationHistory",
     "CalibrationRecord",
+    "ConsistencyTest",
+    "ControlChart",
+    "ControlPoint",
+    "ControlRecord",
     "DriftFit",
     "ISO_5725_FACTOR",
     "LIMITS",
     "Prediction",
+    "ProficiencyHistory",
+    "ProficiencyRound",
     "RecalibrationInterval",
+    "Reconciliation",
+    "RuleViolation",
+    "TopDown",
     "check_determinations",
     "check_flow_times",
     "check_laboratories",
+    "control_chart",
     "critical_range_factor",
     "fit_drift",
+    "reconcile",
     "repeatability_limit",
     "reproducibility_limit",
+    "run_rule_violations",
+    "top_down",
 ]
