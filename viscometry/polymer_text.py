@@ -183,6 +183,11 @@ def monte_carlo_lines(mc: MonteCarloCheck, ext: Extrapolation, c_unit: str) -> l
             f"  {name}: mean {mean:.5f}, u {_u2(u)} (propagated {_u2(fit.intrinsic.standard_uncertainty * cs)}), "
             f"interval [{low:.5f}, {high:.5f}] {e_unit}"
         )
+    out.append(
+        "  (Type A inputs are drawn from scaled t distributions with their degrees of freedom, "
+        "JCGM 101:2008, 6.4.9: with few readings u exceeds the propagated u; compare the "
+        "interval with U)"
+    )
     return out
 
 
