@@ -50,7 +50,9 @@ def test_drift_json_against_an_independent_fit(capsys):
     d = _json(capsys, "drift", HISTORY, "--date", "2026-05-01", "--json")
     assert d["schema"] == "viscometry.drift/1" and d["source"] == str(HISTORY)
     assert d["fingerprint"].startswith("sha256:") and d["version"]
-    assert d["warnings"] == [] and len(d["certificates"]) == 5
+    # the only warning: 2026-05-01 is past the recommended date (tests/test_evidence_overdue.py)
+    assert [w[:35] for w in d["warnings"]] == ["recalibration overdue on 2026-05-01"]
+    assert len(d["certificates"]) == 5
     assert all(SNAKE.match(k) for k in _keys(d)), sorted(set(_keys(d)))
     dates, c, u_exp = _certificates()
     x = np.array([(t - dates[-1]).days / 365.25 for t in dates])
@@ -95,7 +97,8 @@ def test_drift_warns_with_two_certificates(tmp_path, capsys):
     f.write_text("format,viscometry-history/1\ndate,C,U,k,source\n"
                  "2020-01-10,0.010021,0.000015,2,A\n2022-01-12,0.010026,0.000015,2,B\n")  # fmt: skip
     d = _json(capsys, "drift", f, "--date", "2023-01-01", "--json")
-    assert len(d["warnings"]) == 1 and "only two certificates" in d["warnings"][0]
+    assert "only two certificates" in d["warnings"][0]
+    assert all("overdue" in w for w in d["warnings"][1:])
     assert d["drift"]["birge_ratio"] is None  # NaN is written as null
     assert main(["drift", str(f), "--date", "2023-01-01"]) == 0
     assert "warning: only two certificates" in capsys.readouterr().out

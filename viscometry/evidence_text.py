@@ -24,6 +24,7 @@ __all__ = [
     "drift_lines",
     "fit_warnings",
     "limit_lines",
+    "overdue_warnings",
     "verdict_statement",
 ]
 
@@ -120,7 +121,8 @@ def _records_lines(fit: DriftFit) -> list[str]:
     lines = [f"certificates ({len(h.records)}), C and U in{u or ' the unit of C'}:"]
     for r, res in zip(h.records, fit.fit.residuals, strict=True):
         lines.append(
-            f"  {r.date}  C = {_g(r.constant)}  U = {_n(r.expanded_uncertainty, 2)} "
+            f"  {r.date}  C = {format_like(r.constant, r.expanded_uncertainty / 10)}  "
+            f"U = {_n(r.expanded_uncertainty, 2)} "
             f"(k = {_g(r.coverage_factor, 3)})  residual {_n(res, 2)}  "
             f"{one_line(r.source, 60)}"
         )
@@ -162,6 +164,27 @@ def drift_lines(
             f"within {_g(100 * t.fraction, 3)} % of U = {_n(h.last.expanded_uncertainty, 2)}{u}"
         )
     return lines
+
+
+def overdue_warnings(prediction: Prediction, interval: RecalibrationInterval) -> list[str]:
+    """A warning when the prediction date is past the recommended recalibration date.
+
+    Examples
+    --------
+    >>> import datetime as dt
+    >>> from types import SimpleNamespace as NS
+    >>> overdue_warnings(NS(date=dt.date(2026, 5, 1)), NS(next_date=dt.date(2025, 12, 13)))[0][:40]
+    'recalibration overdue on 2026-05-01: the'
+    >>> overdue_warnings(NS(date=dt.date(2025, 1, 1)), NS(next_date=dt.date(2025, 12, 13)))
+    []
+    """
+    if prediction.date <= interval.next_date:
+        return []
+    return [
+        f"recalibration overdue on {prediction.date}: the recommended date {interval.next_date} "
+        "has passed, so the predicted constant leans on the drift model beyond the interval "
+        "that keeps the drift within its share of U; recalibrate"
+    ]
 
 
 def budget_input_lines(term: InputQuantity) -> list[str]:

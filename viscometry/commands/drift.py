@@ -62,6 +62,7 @@ def run(args: argparse.Namespace) -> int:
         budget_input_lines,
         drift_lines,
         fit_warnings,
+        overdue_warnings,
         warning_lines,
     )
     from viscometry.io.history import load_history
@@ -76,7 +77,7 @@ def run(args: argparse.Namespace) -> int:
         term = fit.stability_input(prediction.date, args.name)
     except ViscometryError as exc:
         raise type(exc)(f"{hf.source}: {exc}") from exc
-    warnings = fit_warnings(fit)
+    warnings = fit_warnings(fit) + overdue_warnings(prediction, interval)
     if args.plot:
         from viscometry.evidence_plots import save_history_plot
 
