@@ -413,6 +413,7 @@ def test_the_schema_tests_cover_every_command_with_json_output():
     # the parametrised test above, the scope tests below; report writes JSON to a file
     covered = {"evaluate", "simulate", "plan", "audit", "methods", "decide", "score", "scope"}
     covered |= {"accept", "drift"}  # schema and snake_case keys: tests/test_evidence_cli.py
+    covered |= {"reconcile"}  # schema and snake_case keys: tests/test_evidence_topdown.py
     covered |= {"dilute"}  # schema and snake_case keys: tests/test_polymer_series_file.py
     assert with_json == covered
     assert set(sub.choices) - with_json == {"demo", "report", "workspace"}

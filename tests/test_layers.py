@@ -25,7 +25,8 @@ CORE = ("gum", "methods", "properties", "planning", "conformity", "proficiency",
 #: The edges the core must never import.
 EDGES = ("io", "audit", "cli", "commands", "widgets", "plots", "mc_plots", "planning_plots",
          "report", "text", "workspace", "cache", "parallel",
-         "evidence_text", "evidence_plots", "polymer_text")  # fmt: skip
+         "evidence_text", "evidence_plots", "polymer_text",
+         "evidence_qc_text", "evidence_qc_plots")  # fmt: skip
 #: Longest function allowed, in lines of code (its docstring not counted).
 MAX_FUNCTION_LINES = 80
 
