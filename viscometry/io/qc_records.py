@@ -28,14 +28,28 @@ ever run.
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from dataclasses import dataclass
 from pathlib import Path
 
 from viscometry import units as _units
 from viscometry.errors import BudgetFileError, ViscometryError
-from viscometry.evidence.control import MAX_CONTROL_POINTS, ControlPoint, ControlRecord
-from viscometry.evidence.topdown import MAX_ROUNDS, ProficiencyHistory, ProficiencyRound
+from viscometry.evidence.control import (
+    MAX_CONTROL_POINTS,
+    ControlChart,
+    ControlPoint,
+    ControlRecord,
+    control_chart,
+)
+from viscometry.evidence.topdown import (
+    MAX_ROUNDS,
+    BudgetClaim,
+    ProficiencyHistory,
+    ProficiencyRound,
+    Reconciliation,
+    reconcile,
+)
 from viscometry.io import _records_csv as rc
 from viscometry.io.reader import read_text_file
 
@@ -45,8 +59,10 @@ __all__ = [
     "PROFICIENCY_COLUMNS",
     "PROFICIENCY_FORMAT",
     "ControlFile",
+    "Evidence",
     "ProficiencyFile",
     "load_control",
+    "load_evidence",
     "load_proficiency",
     "loads_control",
     "loads_proficiency",
@@ -197,3 +213,65 @@ def loads_proficiency(text: str, source_name: str = "<string>") -> ProficiencyFi
         raise BudgetFileError(f"{src}: row {line}: a header but no rounds")
     history = ProficiencyHistory(unit, tuple(rounds))
     return ProficiencyFile(history, meta.get("scheme", ""), src, rc.fingerprint(text), tuple(lines))
+
+
+@dataclass(frozen=True, eq=False)
+class Evidence:
+    """A laboratory's records read and evaluated together (immutable): the viscometer's
+    calibration history with its drift fit, prediction and interval (when given), the check
+    standard's chart, the proficiency rounds, the budget with its result, and the
+    reconciliation."""
+
+    history: object  # viscometry.io.history.HistoryFile | None
+    drift: object  # viscometry.evidence.history.DriftFit | None
+    prediction: object  # viscometry.evidence.history.Prediction | None
+    interval: object  # viscometry.evidence.history.RecalibrationInterval | None
+    control: ControlFile
+    chart: ControlChart
+    proficiency: ProficiencyFile
+    budget: object  # viscometry.io.reader.BudgetFile
+    result: object  # viscometry.gum.result.BudgetResult
+    reconciliation: Reconciliation
+
+
+def load_evidence(
+    control: str | os.PathLike[str],
+    proficiency: str | os.PathLike[str],
+    budget: str | os.PathLike[str],
+    *,
+    history: str | os.PathLike[str] | None = None,
+    date: dt.date | None = None,
+    alpha: float = 0.05,
+) -> Evidence:
+    """Read the files and compute everything the top-down check shows (see
+    ``docs/evidence-topdown.md``); the prediction is for ``date`` (default today).
+
+    Raises
+    ------
+    ViscometryError
+        A malformed file (one line naming file, row and column) or a bad argument; errors
+        of a computation name the file.
+    """
+    from viscometry.evidence.history import fit_drift
+    from viscometry.io.reader import load_budget
+
+    cf, pf, bf = load_control(control), load_proficiency(proficiency), load_budget(budget)
+    try:
+        result = bf.budget.evaluate()
+    except ViscometryError as exc:
+        raise type(exc)(f"{bf.source}: {exc}") from exc
+    chart = control_chart(cf.record)
+    claim = BudgetClaim.from_result(result, bf.source)
+    rec = reconcile(chart, pf.history, claim, alpha=alpha)
+    hf = fit = prediction = interval = None
+    if history is not None:
+        from viscometry.io.history import load_history
+
+        hf = load_history(history)
+        try:
+            fit = fit_drift(hf.history)
+            prediction = fit.predict(date or dt.date.today())
+            interval = fit.recalibration_interval()
+        except ViscometryError as exc:
+            raise type(exc)(f"{hf.source}: {exc}") from exc
+    return Evidence(hf, fit, prediction, interval, cf, chart, pf, bf, result, rec)

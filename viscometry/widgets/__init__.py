@@ -22,6 +22,7 @@ _LAZY = {
         "conformity_panel",
         "score_panel",
     ),
+    "viscometry.widgets.evidence_panel": ("EvidencePanel", "evidence_panel"),
     "viscometry.widgets.monte_carlo_panel": ("MonteCarloPanel", "monte_carlo_panel"),
     "viscometry.widgets.upgrade_explorer": ("UpgradeExplorer", "upgrade_explorer"),
 }
@@ -35,6 +36,7 @@ __all__ = [
     "BudgetEditor",
     "ChainPanel",
     "ConformityPanel",
+    "EvidencePanel",
     "MonteCarloPanel",
     "ScorePanel",
     "UpgradeExplorer",
@@ -42,6 +44,7 @@ __all__ = [
     "budget_editor",
     "chain_panel",
     "conformity_panel",
+    "evidence_panel",
     "monte_carlo_panel",
     "score_panel",
     "upgrade_explorer",
