@@ -44,7 +44,6 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
-from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Literal
 
@@ -445,8 +444,3 @@ def reconcile(
     if len(history.rounds) < 3:
         flags.append("few_rounds")
     return Reconciliation(td, claim, tests, verdict, tuple(flags))
-
-
-def relative_biases(history: ProficiencyHistory) -> Sequence[float]:
-    """The rounds' relative biases b_i, oldest first [1]."""
-    return tuple(r.relative_bias for r in history.rounds)

@@ -32,6 +32,7 @@ import datetime as dt
 import os
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from viscometry import units as _units
 from viscometry.errors import BudgetFileError, ViscometryError
@@ -52,6 +53,12 @@ from viscometry.evidence.topdown import (
 )
 from viscometry.io import _records_csv as rc
 from viscometry.io.reader import read_text_file
+
+if TYPE_CHECKING:  # pragma: no cover
+    from viscometry.evidence.history import DriftFit, Prediction, RecalibrationInterval
+    from viscometry.gum.result import BudgetResult
+    from viscometry.io.history import HistoryFile
+    from viscometry.io.reader import BudgetFile
 
 __all__ = [
     "CONTROL_COLUMNS",
@@ -222,15 +229,15 @@ class Evidence:
     standard's chart, the proficiency rounds, the budget with its result, and the
     reconciliation."""
 
-    history: object  # viscometry.io.history.HistoryFile | None
-    drift: object  # viscometry.evidence.history.DriftFit | None
-    prediction: object  # viscometry.evidence.history.Prediction | None
-    interval: object  # viscometry.evidence.history.RecalibrationInterval | None
+    history: HistoryFile | None
+    drift: DriftFit | None
+    prediction: Prediction | None
+    interval: RecalibrationInterval | None
     control: ControlFile
     chart: ControlChart
     proficiency: ProficiencyFile
-    budget: object  # viscometry.io.reader.BudgetFile
-    result: object  # viscometry.gum.result.BudgetResult
+    budget: BudgetFile
+    result: BudgetResult
     reconciliation: Reconciliation
 
 
