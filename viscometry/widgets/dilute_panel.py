@@ -51,7 +51,7 @@ class DilutePanel:
         self.trials = widgets.IntText(value=trials, description="MC trials",
                                       layout=widgets.Layout(width="14em"))  # fmt: skip
         self.seed = widgets.IntText(
-            value=seed, description="seed", layout=widgets.Layout(width="10em")
+            value=seed, description="seed", layout=widgets.Layout(width="16em")
         )
         self.message = message_label()
         self.report_html = widgets.HTML()
@@ -125,7 +125,10 @@ class DilutePanel:
                            monte_carlo=mc, molar_mass=mm)  # fmt: skip
         self._report = Report(sf, ext, mc, mm, text)
         self.message.value = ""
-        self.report_html.value = f"<pre style='font-size:0.85em'>{html.escape(text)}</pre>"
+        self.report_html.value = (
+            "<pre style='font-size:0.85em;white-space:pre-wrap;word-break:normal;"
+            f"overflow-wrap:break-word'>{html.escape(text)}</pre>"
+        )
         return True
 
 

@@ -142,8 +142,9 @@ def _text_html(ev: Evidence) -> str:
         warnings += fit_warnings(ev.drift)
     blocks += [topdown_lines(ev.reconciliation.top_down), reconciliation_lines(ev.reconciliation)]
     body = "\n\n".join("\n".join(b) for b in blocks)
-    return f"<pre style='white-space:pre-wrap'>{html.escape(body)}</pre>" + "<br>".join(
-        warning_lines(warnings)
+    return (
+        f"<pre style='white-space:pre-wrap;word-break:normal;overflow-wrap:break-word'>{html.escape(body)}</pre>"
+        + "<br>".join(warning_lines(warnings))
     )
 
 
@@ -170,8 +171,9 @@ def evidence_panel(
 
     def text(label: str, value: object) -> widgets.Text:
         return widgets.Text(value="" if value is None else str(value), description=label,
-                            continuous_update=False, style={"description_width": "13em"},
-                            layout=widgets.Layout(width="44em", min_width="16em"))  # fmt: skip
+                            continuous_update=False, style={"description_width": "15em"},
+                            layout=widgets.Layout(width="calc(100% - 8px)", max_width="46em",
+                                                  min_width="18em"))  # fmt: skip
 
     if examples is None:
         from viscometry.workspace import bundled
