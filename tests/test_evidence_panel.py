@@ -76,7 +76,7 @@ def test_without_a_history_the_drift_is_left_out():
     assert panel.drift_image.value == b"" and "verdict: borderline" in panel.verdict_html.value
 
 
-def test_a_malformed_file_is_refused_in_one_red_line_and_clears_the_results(tmp_path):
+def test_a_malformed_file_is_refused_in_one_red_line_and_the_last_results_stay_marked(tmp_path):
     bad = tmp_path / "cs.csv"
     bad.write_text("format,viscometry-control/1\ndate,value,note\n2025-09-01,45.9,AB\n"
                    "2025-09-08,abc,CD\n")  # fmt: skip
@@ -86,5 +86,20 @@ def test_a_malformed_file_is_refused_in_one_red_line_and_clears_the_results(tmp_
     panel.check_button.click()
     assert panel.evidence is None
     assert panel.message == f"{bad}: row 4, column value: not a number: 'abc'"
-    assert "color:#a00" in panel.verdict_html.value and panel.text_html.value == ""
-    assert panel.chart_image.value == b""
+    # the refusal in red next to the fields; the last good results stay on screen, marked
+    shown = panel.message_html.value
+    assert "color:#a00" in shown and "row 4, column value: not a number" in shown
+    assert "still those of the files last read" in shown
+    assert "verdict: borderline" in panel.verdict_html.value and panel.text_html.value != ""
+    assert panel.chart_image.value != b""
+    # the file mended: checked again, the mark goes
+    bad.write_text("format,viscometry-control/1\ndate,value,note\n" + "".join(
+        f"2025-09-{d:02d},45.9{d % 7},x\n" for d in range(1, 26)))  # fmt: skip
+    panel.check_button.click()
+    assert panel.evidence is not None and panel.message_html.value == ""
+
+
+def test_a_refusal_before_any_result_says_only_why(tmp_path):
+    panel = evidence_panel(EXAMPLES, control=str(tmp_path / "missing.csv"))
+    assert panel.evidence is None and "missing.csv" in panel.message_html.value
+    assert "still those" not in panel.message_html.value and panel.text_html.value == ""

@@ -51,6 +51,7 @@ class _State:
     def __init__(self) -> None:
         self.evidence: Evidence | None = None
         self.message = ""
+        self.shown = False  # whether results are on screen
 
 
 @dataclass(frozen=True, eq=False)
@@ -65,6 +66,7 @@ class EvidencePanel:
     date: widgets.Text
     check_button: widgets.Button
     verdict_html: widgets.HTML
+    message_html: widgets.HTML
     text_html: widgets.HTML
     drift_image: widgets.Image
     chart_image: widgets.Image
@@ -73,7 +75,8 @@ class EvidencePanel:
 
     @property
     def evidence(self) -> Evidence | None:
-        """What the last check read and computed (None after a refusal)."""
+        """What the last check read and computed (None after a refusal; the screen keeps
+        the last good results, marked as those of the files last read)."""
         return self._state.evidence
 
     @property
@@ -91,6 +94,8 @@ class EvidencePanel:
         except ViscometryError as exc:
             return self._refuse(str(exc))
         self._state.evidence, self._state.message = ev, ""
+        self._state.shown = True
+        self.message_html.value = ""
         colour = _VERDICT_COLOUR[ev.reconciliation.verdict]
         self.verdict_html.value = (
             f"<b style='color:{colour}'>verdict: "
@@ -114,11 +119,14 @@ class EvidencePanel:
             self.drift_image.value = b""
 
     def _refuse(self, text: str) -> None:
+        """The refusal next to the fields; results on screen stay, marked as the last good."""
         self._state.evidence, self._state.message = None, text
-        self.verdict_html.value = error_html([text])
-        self.text_html.value = ""
-        for image in (self.drift_image, self.chart_image, self.scores_image):
-            image.value = b""
+        lines = [text]
+        if self._state.shown:
+            lines.append(
+                "nothing was checked: the results below are still those of the files last read"
+            )
+        self.message_html.value = error_html(lines)
         return None
 
 
@@ -189,13 +197,13 @@ def evidence_panel(
         proficiency=text("proficiency rounds (CSV)", proficiency),
         budget=text("budget file (TOML)", budget), date=text("predict the constant on", date),
         check_button=widgets.Button(description="Check", button_style="primary"),
-        verdict_html=widgets.HTML(), text_html=widgets.HTML(layout=widgets.Layout(width="100%")),
+        verdict_html=widgets.HTML(), message_html=widgets.HTML(), text_html=widgets.HTML(layout=widgets.Layout(width="100%")),
         drift_image=chart_image(), chart_image=chart_image(), scores_image=chart_image(),
         _state=_State(),
     )  # fmt: skip
     panel.widget.children = (
         panel.history, panel.control, panel.proficiency, panel.budget,
-        wrap_row([panel.date, panel.check_button]), panel.verdict_html,
+        wrap_row([panel.date, panel.check_button]), panel.message_html, panel.verdict_html,
         wrap_row([panel.drift_image, panel.chart_image, panel.scores_image]), panel.text_html,
     )  # fmt: skip
     panel.check_button.on_click(lambda _b: panel.run())
