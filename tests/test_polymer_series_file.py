@@ -253,7 +253,7 @@ def test_panel_loads_refuses_and_keeps_the_last_good_report():
     assert "Huggins: [η]" in panel.report_html.value
     assert panel.load_text(MINIMAL.replace("[100.02, 100.00, 99.98]", "[1, -1]"), "x.toml") is False
     assert "x.toml" in panel.message.value and "solvent_flow_time[1]" in panel.message.value
-    assert panel.report() is good
+    assert panel.report() is good and "still that of the last series" in panel.message.value
     panel._uploaded([{"name": "bin.toml", "content": memoryview(b"\xff\xfe")}])
     assert "not UTF-8" in panel.message.value and panel.report() is good
     assert panel.load_text(MINIMAL, "mini.toml") is True and panel.message.value == ""

@@ -97,7 +97,10 @@ class DilutePanel:
         self.load_text(text, str(item["name"]))
 
     def _refuse(self, message: str) -> bool:
-        self.message.value = error_html([message])
+        lines = [message]
+        if self.report_html.value:
+            lines.append("nothing was loaded: the report below is still that of the last series")
+        self.message.value = error_html(lines)
         return False
 
     def _show(self, sf: SeriesFile) -> bool:
