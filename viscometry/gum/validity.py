@@ -45,6 +45,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "BuiltInModel",
+    "flow_time_warnings",
     "sign_bound_inputs",
     "method_problems",
     "check_context_problems",
@@ -201,7 +202,46 @@ def estimate_warnings(budget: Budget) -> tuple[str, ...]:
         values.update(zip((c.name for c in budget.constants), map(float, c_si), strict=True))
         values.update(budget.check_context)
         out += [str(w) for w in budget.method.check(values)]
+        out += flow_time_warnings(budget)
     return tuple(out)
+
+
+def flow_time_warnings(budget: Budget) -> list[str]:
+    """Whether the readings of each flow time of a glass-viscometer model agree.
+
+    For every input a built-in model names in ``flow_time_inputs`` that is stated as 2 to 10
+    readings, their range is compared with the ``flow_time_range`` limit
+    (:func:`viscometry.evidence.acceptance.check_flow_times`: 0.2 % of the mean for two
+    timings, common practice); readings outside it give a warning that says what to do
+    (one more timing while fewer than four were taken, else investigate).
+    """
+    from viscometry.evidence.acceptance import MAX_RESULTS, check_flow_times
+
+    if budget.method is None or not budget.method.flow_time_inputs:
+        return []
+    out = []
+    for q in budget.inputs:
+        readings = q.readings or ()
+        if q.name not in budget.method.flow_time_inputs or not 2 <= len(readings) <= MAX_RESULTS:
+            continue
+        scale, offset = _units.si_conversion(q.unit or "s")
+        times = [r * scale + offset for r in readings]
+        if not all(math.isfinite(t) and t > 0 for t in times):
+            continue  # refused or warned about elsewhere
+        v = check_flow_times(times, most=max(4, len(times)))
+        if v.action == "accept":
+            continue
+        todo = (
+            "take one more timing"
+            if v.action == "repeat"
+            else "investigate before reporting (cleanliness, particles, bubbles, temperature)"
+        )
+        out.append(
+            f"the {len(times)} readings of flow time {q.name} span {v.spread:.3g} s, more than "
+            f"the {v.limit:.3g} s their agreement allows ({v.limit_name}, "
+            f"{v.limit_source}): {todo}"
+        )
+    return out
 
 
 def sign_bound_inputs(budget: Budget) -> tuple[str, ...]:

@@ -87,6 +87,10 @@ class Method:
         time, volume, length, density...). :meth:`budget`, :meth:`check` and budget files
         refuse a zero, negative or non-finite estimate of these with an error naming the
         input and the value.
+    flow_time_inputs : tuple of str
+        Inputs that are flow times of a gravity-driven glass viscometer: when such an input
+        is stated as readings, the budget checks that they agree (the ``flow_time_range``
+        limit of :mod:`viscometry.evidence.acceptance`) and warns with what to do.
     """
 
     name: str
@@ -103,11 +107,13 @@ class Method:
     context_keys: Mapping[str, str] = field(default_factory=dict)
     checker: Checker = field(default=_no_check, repr=False, compare=False)
     positive_inputs: tuple[str, ...] = ()
+    flow_time_inputs: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "input_names", tuple(self.input_names))
         object.__setattr__(self, "constant_names", tuple(self.constant_names))
         object.__setattr__(self, "references", tuple(self.references))
+        object.__setattr__(self, "flow_time_inputs", tuple(self.flow_time_inputs))
         object.__setattr__(self, "positive_inputs", tuple(self.positive_inputs))
         stray = [n for n in self.positive_inputs if n not in self.input_names]
         if stray:

@@ -105,6 +105,7 @@ _E_DESCRIPTION = "kinetic_energy_constant: E of ν = C t − E/t² for the visco
 
 CONSTANT_FROM_REFERENCE_LIQUID = Method(
     name="constant_from_reference_liquid",
+    flow_time_inputs=("t",),
     positive_inputs=("nu_ref", "t"),
     title="Viscometer constant from a reference liquid, C = (ν_ref + E/t²)/t",
     expression=(nu_ref + E / t**2) / t,
@@ -129,6 +130,7 @@ CONSTANT_FROM_REFERENCE_LIQUID = Method(
 
 CONSTANT_FROM_TWO_REFERENCE_LIQUIDS = Method(
     name="constant_from_two_reference_liquids",
+    flow_time_inputs=("t1", "t2"),
     positive_inputs=("nu1", "t1", "nu2", "t2"),
     title="Viscometer constant as the mean from two reference liquids",
     expression=((nu1 + E / t1**2) / t1 + (nu2 + E / t2**2) / t2) / 2,
@@ -152,6 +154,7 @@ CONSTANT_FROM_TWO_REFERENCE_LIQUIDS = Method(
 
 CONSTANT_BY_COMPARISON = Method(
     name="constant_by_comparison",
+    flow_time_inputs=("t_ref", "t_x"),
     positive_inputs=("C_ref", "t_ref", "t_x"),
     title="Viscometer constant by comparison with a reference viscometer, C_x = C_ref t_ref/t_x",
     expression=C_ref * t_ref / t_x,

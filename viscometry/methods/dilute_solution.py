@@ -80,6 +80,7 @@ def _check(method: Method, v: Mapping[str, float]) -> list[str]:
 
 DILUTE_RELATIVE_VISCOSITY = Method(
     name="dilute_relative_viscosity",
+    flow_time_inputs=("t", "t0"),
     positive_inputs=("t", "t0", "C", "r_rho"),
     title="Relative viscosity of a dilute solution, η_rel = (ρ/ρ₀)(C t − E/t²)/(C t₀ − E/t₀²)",
     expression=_RELATIVE,
@@ -97,6 +98,7 @@ DILUTE_RELATIVE_VISCOSITY = Method(
 
 VISCOSITY_NUMBER = Method(
     name="viscosity_number",
+    flow_time_inputs=("t", "t0"),
     positive_inputs=("t", "t0", "C", "r_rho", "m", "w", "V"),
     title="Viscosity number VN = (η_rel − 1)/c of a polymer solution, c = w m/V",
     expression=viscosity_number(_RELATIVE, w * m / V),

@@ -228,6 +228,7 @@ def _check_corrected(method: Method, values: Mapping[str, float]) -> list[str]:
 
 GLASS_CAPILLARY_KINETIC = Method(
     name="glass_capillary_kinetic",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t"),
     title="Glass capillary viscometer, kinetic-energy form ν = C t − E/t²",
     expression=C * t - E / t**2,
@@ -248,6 +249,7 @@ GLASS_CAPILLARY_KINETIC = Method(
 
 GLASS_CAPILLARY_HAGENBACH = Method(
     name="glass_capillary_hagenbach",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t"),
     title="Glass capillary viscometer, Hagenbach form ν = C t − B/t",
     expression=C * t - B / t,
@@ -276,6 +278,7 @@ _CORRECTED_REFERENCES = (
 
 GLASS_CAPILLARY_CORRECTED = Method(
     name="glass_capillary_corrected",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t", "g1", "g2"),
     title="Glass capillary viscometer with gravity, tilt and bath-temperature corrections",
     expression=(_corrected_core * t - E / t**2) * (1 - alpha * dT),
@@ -295,6 +298,7 @@ _surface = 1 + 2 * (1 / r_u - 1 / r_l) * (sigma_c / rho_c - sigma_x / rho_x) / (
 
 GLASS_CAPILLARY_CORRECTED_SURFACE_TENSION = Method(
     name="glass_capillary_corrected_surface_tension",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t", "g1", "g2", "h", "r_u", "r_l", "rho_c", "rho_x"),
     title="Glass capillary viscometer with gravity, tilt, bath-temperature and surface-tension "
     "corrections",
@@ -437,6 +441,7 @@ _THERMAL_REFERENCES = _CORRECTED_REFERENCES + (
 
 GLASS_CAPILLARY_THERMAL_EXPANSION = Method(
     name="glass_capillary_thermal_expansion",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t", "g1", "g2"),
     title="Glass capillary viscometer with gravity, tilt, bath-temperature corrections and the "
     "glass expansion of the constant",
@@ -460,6 +465,7 @@ _CHARGE_NAMES = _THERMAL_NAMES + tuple(_CHARGE_UNITS)
 
 GLASS_CAPILLARY_FIXED_CHARGE = Method(
     name="glass_capillary_fixed_charge",
+    flow_time_inputs=("t",),
     positive_inputs=("C", "t", "g1", "g2", "A_l", "h"),
     title="Fixed-charge glass capillary viscometer with gravity, tilt, bath-temperature, glass "
     "expansion and charge-volume corrections",
