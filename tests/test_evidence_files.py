@@ -46,15 +46,15 @@ HOSTILE_HISTORIES = {
     ),
     "negative U": (
         HEAD + "date,C,U,k,source\n2020-01-10,0.010021,-0.000015,2,A\n",
-        "row 4, column U: must be positive, got -0.000015",
+        "row 4, column U: must be positive, got '-0.000015'",
     ),
     "nan constant": (
         HEAD + "date,C,U,k,source\n2020-01-10,nan,0.000015,2,A\n",
-        "row 4, column C: must be positive, got nan",
+        "row 4, column C: must be positive, got 'nan'",
     ),
     "zero k": (
         HEAD + "date,C,U,k,source\n2020-01-10,0.01,0.000015,0,A\n",
-        "row 4, column k: must be positive, got 0",
+        "row 4, column k: must be positive, got '0'",
     ),
     "duplicate dates": (
         HEAD + "date,C,U,k,source\n2020-01-10,0.01,1e-5,2,A\n2020-01-10,0.01,1e-5,2,B\n",

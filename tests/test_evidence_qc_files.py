@@ -50,7 +50,7 @@ def test_columns_in_another_order_and_comments_are_read():
 HOSTILE_CONTROL = {
     "empty": ("", "empty; a control chart starts with the row format,viscometry-control/1"),
     "no format": (C_COLS + C_GOOD, "row 1, column 1: expected format,viscometry-control/1"),
-    "wrong format": ("format,viscometry-control/2\n" + C_COLS + C_GOOD, "got 'viscometry-control/2'"),
+    "wrong format": ("format,viscometry-control/2\n" + C_COLS + C_GOOD, "row 1, column 2: format 'viscometry-control/2' is not supported"),
     "bad unit": (f"format,{CONTROL_FORMAT}\nunit,mm^2/s^2\n" + C_COLS + C_GOOD,
                  "unit 'mm^2/s^2' is not a unit of viscosity"),
     "unknown key": (C_HEAD + "colour,blue\n" + C_COLS, "row 3, column 1: unknown key 'colour'"),

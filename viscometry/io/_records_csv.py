@@ -1,4 +1,5 @@
-"""Shared parts of the small record files (control charts, proficiency rounds): CSV rows, a
+"""Shared parts of the small CSV record files (calibration histories, timings, control charts,
+proficiency rounds): CSV rows, a
 ``key,value`` preamble, a header of fixed columns, numbers and dates, each refusal one line
 naming the file, the row (its line number) and the column."""
 
@@ -61,10 +62,13 @@ def preamble(
     """The ``key,value`` rows before the header (the first must be ``format,<fmt>``); returns
     them and the index of the header row."""
     line, first = rows[0]
-    if first[0] != "format" or len(first) != 2 or first[1] != fmt:
-        got = first[1] if first[0] == "format" and len(first) == 2 else ",".join(first)
+    if first[0] == "format" and len(first) == 2 and first[1] != fmt:
         raise BudgetFileError(
-            f"{src}: row {line}, column 1: expected format,{fmt} first, got {show(got)}"
+            f"{src}: row {line}, column 2: format {show(first[1])} is not supported; expected {fmt}"
+        )
+    if first[0] != "format" or len(first) != 2:
+        raise BudgetFileError(
+            f"{src}: row {line}, column 1: expected format,{fmt} first, got {show(','.join(first))}"
         )
     meta: dict[str, str] = {}
     for i, (line, cells) in enumerate(rows):

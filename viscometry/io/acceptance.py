@@ -32,11 +32,13 @@ from pathlib import Path
 from viscometry import units as _units
 from viscometry.errors import BudgetFileError, ViscometryError
 from viscometry.evidence.acceptance import MAX_RESULTS
-from viscometry.io.history import _number, _rows, _show
+from viscometry.io import _records_csv as rc
 from viscometry.io.reader import read_text_file
-from viscometry.io.schema import MAX_FILE_BYTES
 
 __all__ = ["TIMINGS_FORMAT", "TimingsFile", "load_timings", "loads_timings"]
+
+#: Most rows read: a preamble and every timing of the most determinations.
+_MAX_ROWS = MAX_RESULTS * MAX_RESULTS + 10
 
 #: The format tag of the first row.
 TIMINGS_FORMAT = "viscometry-timings/1"
@@ -100,13 +102,7 @@ def loads_timings(text: str, source_name: str = "<string>") -> TimingsFile:
     (((300.1, 300.3), (300.6, 300.4)), [300.2, 300.5], 's')
     """
     src = source_name
-    if not isinstance(text, str):
-        raise BudgetFileError(f"{src}: timings text must be a str, got {type(text).__name__}")
-    if len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
-        raise BudgetFileError(f"{src}: more than {MAX_FILE_BYTES} bytes; too large")
-    rows = _rows(text, src)
-    if not rows:
-        raise BudgetFileError(f"{src}: empty; a timings file starts with format,{TIMINGS_FORMAT}")
+    rows = rc.csv_rows(text, src, TIMINGS_FORMAT, _MAX_ROWS, "a timings file")
     meta, start = _preamble(rows, src)
     labels, groups = _groups(rows[start:], src)
     return TimingsFile(
@@ -122,27 +118,27 @@ def _preamble(rows: list[tuple[int, list[str]]], src: str) -> tuple[dict, int]:
         if i == 0 and key != "format":
             raise BudgetFileError(
                 f"{src}: row {line}, column 1: expected format,{TIMINGS_FORMAT} first, "
-                f"got {_show(key)}"
+                f"got {rc.show(key)}"
             )
         if key == TIMINGS_COLUMNS[0]:
             if meta.get("format") != TIMINGS_FORMAT:
                 raise BudgetFileError(
-                    f"{src}: format {_show(meta.get('format', ''))} is not supported; "
+                    f"{src}: format {rc.show(meta.get('format', ''))} is not supported; "
                     f"expected {TIMINGS_FORMAT}"
                 )
             _check_unit(meta["unit"], src)
             if tuple(cells) != TIMINGS_COLUMNS:
                 raise BudgetFileError(
                     f"{src}: row {line}: header must be {','.join(TIMINGS_COLUMNS)}, "
-                    f"got {_show(','.join(cells))}"
+                    f"got {rc.show(','.join(cells))}"
                 )
             return meta, i + 1
         if key not in PREAMBLE_KEYS or len(cells) != 2 or key in meta and key != "unit":
             raise BudgetFileError(
-                f"{src}: row {line}, column 1: {_show(key)} is not a preamble key "
+                f"{src}: row {line}, column 1: {rc.show(key)} is not a preamble key "
                 f"({', '.join(PREAMBLE_KEYS)}, each once as key,value)"
             )
-        meta[key] = _number(src, line, "constant", cells[1]) if key == "constant" else cells[1]
+        meta[key] = rc.number(src, line, "constant", cells[1]) if key == "constant" else cells[1]
     raise BudgetFileError(f"{src}: no header row {','.join(TIMINGS_COLUMNS)}")
 
 
@@ -152,7 +148,7 @@ def _check_unit(unit: str, src: str) -> None:
     except ViscometryError:
         ok = False
     if not ok:
-        raise BudgetFileError(f"{src}: unit {_show(unit)} is not a unit of a viscometer constant")
+        raise BudgetFileError(f"{src}: unit {rc.show(unit)} is not a unit of a viscometer constant")
 
 
 def _groups(rows: list[tuple[int, list[str]]], src: str) -> tuple[list[str], list[list[float]]]:
@@ -161,11 +157,11 @@ def _groups(rows: list[tuple[int, list[str]]], src: str) -> tuple[list[str], lis
     for line, cells in rows:
         if len(cells) != 2:
             raise BudgetFileError(f"{src}: row {line}: {len(cells)} cells; expected 2")
-        label, t = cells[0], _number(src, line, "flow_time", cells[1])
+        label, t = cells[0], rc.number(src, line, "flow_time", cells[1])
         if not labels or label != labels[-1]:
             if label in labels:
                 raise BudgetFileError(
-                    f"{src}: row {line}, column determination: {_show(label)} appeared before; "
+                    f"{src}: row {line}, column determination: {rc.show(label)} appeared before; "
                     "keep the rows of one determination together"
                 )
             if len(labels) == MAX_RESULTS:
@@ -180,7 +176,7 @@ def _groups(rows: list[tuple[int, list[str]]], src: str) -> tuple[list[str], lis
     for label, g in zip(labels, groups, strict=True):
         if len(g) < 2:
             raise BudgetFileError(
-                f"{src}: determination {_show(label)} has one timing; time each filling at "
+                f"{src}: determination {rc.show(label)} has one timing; time each filling at "
                 "least twice"
             )
     return labels, groups
