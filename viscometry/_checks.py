@@ -3,10 +3,19 @@
 from __future__ import annotations
 
 import math
+import numbers
+import os
 
 from viscometry.errors import InputError
 
-__all__ = ["finite", "positive", "non_negative", "degrees_of_freedom"]
+__all__ = [
+    "available_cores",
+    "degrees_of_freedom",
+    "finite",
+    "non_negative",
+    "positive",
+    "worker_count",
+]
 
 
 def _shown(value: object) -> str:
@@ -80,3 +89,43 @@ def degrees_of_freedom(value: object, field: str = "dof") -> float:
     if math.isnan(x) or x <= 0:
         raise InputError(f"{field} must be positive, got {x!r}")
     return x
+
+
+def available_cores() -> int:
+    """The number of CPU cores this process may use (at least 1).
+
+    ``os.process_cpu_count()`` (Python 3.13), else the process's CPU affinity where the
+    system has one (Linux), else ``os.cpu_count()``.
+
+    Examples
+    --------
+    >>> available_cores() >= 1
+    True
+    """
+    counter = getattr(os, "process_cpu_count", None)
+    if counter is not None:  # pragma: no cover - Python 3.13
+        return max(1, counter() or 1)
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):  # pragma: no cover - not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def worker_count(value: object, field: str, most: int) -> int:
+    """A number of workers (threads or processes): ``None`` means every available core; a
+    whole number of at least 1, capped at ``most``; else :class:`InputError` naming ``field``.
+
+    Examples
+    --------
+    >>> worker_count(2, "jobs", 64), worker_count(1000, "jobs", 64)
+    (2, 64)
+    >>> worker_count(0, "--jobs", 64)
+    Traceback (most recent call last):
+    ...
+    viscometry.errors.InputError: --jobs must be a whole number of at least 1, got 0
+    """
+    if value is None:
+        return min(available_cores(), most)
+    if isinstance(value, bool) or not isinstance(value, numbers.Integral) or value < 1:
+        raise InputError(f"{field} must be a whole number of at least 1, got {_shown(value)}")
+    return min(int(value), most)

@@ -52,6 +52,8 @@ import warnings
 from collections.abc import Callable, Iterable, Sequence
 from typing import Any, TextIO, TypeVar
 
+from viscometry._checks import available_cores as _available_cores
+from viscometry._checks import worker_count
 from viscometry.errors import InputError
 
 __all__ = [
@@ -105,13 +107,7 @@ def available_cores() -> int:
     >>> available_cores() >= 1
     True
     """
-    counter = getattr(os, "process_cpu_count", None)
-    if counter is not None:
-        return max(1, counter() or 1)
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except (AttributeError, OSError):  # pragma: no cover - not on Linux
-        return max(1, os.cpu_count() or 1)
+    return _available_cores()
 
 
 def check_jobs(value: object, field: str = "jobs") -> int:
@@ -143,12 +139,7 @@ def check_jobs(value: object, field: str = "jobs") -> int:
     ...
     viscometry.errors.InputError: jobs must be a whole number of at least 1, got 0
     """
-    if value is None:
-        return min(available_cores(), MAX_JOBS)
-    if isinstance(value, bool) or not isinstance(value, int) or value < 1:
-        shown = repr(value) if len(repr(value)) <= 40 else repr(value)[:40] + "…"
-        raise InputError(f"{field} must be a whole number of at least 1, got {shown}")
-    return min(value, MAX_JOBS)
+    return worker_count(value, field, MAX_JOBS)
 
 
 class TerminalProgress:

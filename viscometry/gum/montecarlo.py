@@ -46,7 +46,6 @@ from __future__ import annotations
 
 import itertools
 import math
-import os
 import threading
 import warnings
 from collections import deque
@@ -58,6 +57,8 @@ from typing import Literal, NamedTuple
 import numpy as np
 from numpy.typing import ArrayLike
 
+from viscometry._checks import available_cores as _available_cores
+from viscometry._checks import worker_count
 from viscometry.errors import CorrelationError, CorrelationWarning, InputError, ModelError
 from viscometry.gum.inputs import InputQuantity
 from viscometry.gum.propagation import (
@@ -280,11 +281,7 @@ def available_cores() -> int:
     >>> 1 <= available_cores() <= MAX_JOBS
     True
     """
-    try:
-        cores = len(os.sched_getaffinity(0))
-    except (AttributeError, OSError):  # pragma: no cover - not on Linux
-        cores = os.cpu_count() or 1
-    return max(1, min(cores, MAX_JOBS))
+    return min(_available_cores(), MAX_JOBS)
 
 
 def check_jobs(value: object, field: str = "jobs") -> int:
@@ -318,11 +315,7 @@ def check_jobs(value: object, field: str = "jobs") -> int:
     ...
     viscometry.errors.InputError: jobs must be a whole number of at least 1, got 0
     """
-    if value is None:
-        return available_cores()
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
-        raise InputError(f"{field} must be a whole number of at least 1, got {_shown(value)}")
-    return min(int(value), MAX_JOBS)
+    return worker_count(value, field, MAX_JOBS)
 
 
 def _check_probability(value: object, field: str = "coverage_probability") -> float:
