@@ -32,6 +32,7 @@ from viscometry.methods import (
     water_reference_input,
     water_temperature_coefficient,
 )
+from viscometry.text import statement
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLE = ROOT / "examples" / "chains" / "ashcombe_step_up_chain.toml"
@@ -175,7 +176,7 @@ def test_example_is_an_invented_demo_with_a_caution() -> None:
     assert first == f'format = "{CHAIN_FORMAT}"'
 
 
-def test_audit_and_demo_skip_the_chain_file(tmp_path: Path, capsys) -> None:
+def test_audit_skips_the_chain_file_and_demo_evaluates_it(tmp_path: Path, capsys) -> None:
     from viscometry.audit import collect_files
 
     assert is_budget_file(EXAMPLE) is False
@@ -186,7 +187,17 @@ def test_audit_and_demo_skip_the_chain_file(tmp_path: Path, capsys) -> None:
     assert [f.name for f in files] == [BUDGET_EXAMPLE.name] and empty == []
     assert main(["demo", str(tmp_path)]) == 0
     out = capsys.readouterr().out
-    assert "chains/ashcombe_step_up_chain.toml: skipped, not a budget file" in out
+    # not audited as a budget; the demo's summary shows the chain's own result in one line
+    expected = statement(load_chain(EXAMPLE).budget.evaluate())
+    assert f"chains/ashcombe_step_up_chain.toml: step-up chain, {expected}" in out
+    # a damaged chain file is an error line in the summary, the demo goes on
+    (tmp_path / "chains" / EXAMPLE.name).write_text(
+        EXAMPLE.read_text(encoding="utf-8").replace("\n[water]\n", "\n[water]\nbogus = 1\n"),
+        encoding="utf-8",
+    )
+    assert main(["demo", str(tmp_path)]) == 2  # a file that could not be evaluated
+    out = capsys.readouterr().out
+    assert "chains/ashcombe_step_up_chain.toml: error: " in out and "=== summary" in out
 
 
 # ----------------------------------------------------------------------------- small chains

@@ -12,6 +12,7 @@ import io
 import json
 import math
 import re
+import shutil
 from pathlib import Path
 
 import numpy as np
@@ -257,3 +258,18 @@ def test_panel_loads_refuses_and_keeps_the_last_good_report():
     panel._uploaded([{"name": "bin.toml", "content": memoryview(b"\xff\xfe")}])
     assert "not UTF-8" in panel.message.value and panel.report() is good
     assert panel.load_text(MINIMAL, "mini.toml") is True and panel.message.value == ""
+
+
+def test_the_demo_shows_the_series_result_in_its_summary(tmp_path, capsys):
+    """The demo evaluates a dilution series with its own reader (not skipped as a non-budget)."""
+    from viscometry.cli import main
+
+    (tmp_path / "polymer").mkdir()
+    shutil.copy(EXAMPLE, tmp_path / "polymer" / EXAMPLE.name)
+    shutil.copy(EXAMPLE.parents[1] / "primary_capillary_poiseuille.toml", tmp_path)
+    assert main(["demo", str(tmp_path)]) == 0
+    # regression value of the invented example (the same as `viscometry dilute` prints)
+    assert (
+        f"polymer/{EXAMPLE.name}: dilution series, Huggins [η] = 0.6549 ± 0.0036 dL/g"
+        in capsys.readouterr().out
+    )

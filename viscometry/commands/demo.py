@@ -80,11 +80,49 @@ def run(args: argparse.Namespace) -> int:
     print("=== summary " + "=" * 68)
     for line in summary:
         print(line)
-    for label, reason in skipped:
-        print(f"{label}: skipped, {one_line(reason)}")
+    for (label, reason), path in zip(skipped, (s.path for s in scan.skipped), strict=True):
+        line = _other_file_line(label, reason, Path(path))
+        failed += line.startswith(f"{label}: error: ")
+        print(line)
     print()
     print(CAUTION)
     return 2 if failed else 0
+
+
+def _other_file_line(label: str, reason: str, path: Path) -> str:
+    """The summary line of a file that is not a budget: a step-up chain file or a dilution
+    series is evaluated with its own reader (its result, in one line); others are skipped."""
+    import warnings
+
+    from viscometry.errors import ValidityWarning, ViscometryError
+    from viscometry.text import message_line, one_line, statement
+
+    try:
+        if "viscometry-chain/" in reason:
+            from viscometry.io.chain import load_chain
+
+            return f"{label}: step-up chain, {statement(load_chain(path).budget.evaluate())}"
+        if "viscometry-series/" in reason:
+            from viscometry.io.series import load_series
+            from viscometry.polymer import extrapolate
+            from viscometry.polymer_text import (
+                concentration_scale,
+                estimate_statement,
+                intrinsic_unit,
+            )
+
+            sf = load_series(path)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", ValidityWarning)  # `viscometry dilute` lists them
+                fit = extrapolate(sf.series).huggins
+            c_unit = sf.concentration_unit
+            shown = estimate_statement(
+                "[η]", fit.intrinsic, concentration_scale(c_unit), intrinsic_unit(c_unit)
+            )
+            return f"{label}: dilution series, Huggins {shown}"
+    except ViscometryError as exc:
+        return f"{label}: error: {message_line(str(exc))}"
+    return f"{label}: skipped, {one_line(reason)}"
 
 
 def _relative(path: str, folder: Path) -> str:
