@@ -6,12 +6,16 @@ import argparse
 from pathlib import Path
 
 NAME = "demo"
-HELP = "evaluate every budget file of the examples folder and print the budgets"
+HELP = (
+    "evaluate every budget file of the examples folder and print the budgets (chain and "
+    "series files in the summary)"
+)
 
 #: Printed once after the budgets: the work behind them can hurt people.
 CAUTION = (
-    "Caution: viscometry work involves hot baths, solvents, glassware under suction and, in "
-    "some set-ups, mercury. Follow local codes, your laboratory's own procedures and "
+    "Caution: viscometry work involves hot baths, solvents (for polymers also hot phenol "
+    "mixtures, acids and chlorinated solvents), glassware under suction and, in some set-ups, "
+    "mercury. Follow local codes, your laboratory's own procedures and "
     "accredited practice; the demo budgets are invented examples (apart from the GUM H.1 "
     "reference file), not procedures."
 )
@@ -31,8 +35,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         metavar="FOLDER",
         nargs="?",
         default=None,
-        help="folder of budget files, searched recursively for *.toml; TOML files that are "
-        "not budget files are skipped (default: the example budgets shipped with the package)",
+        help="folder of budget files, searched recursively for *.toml; step-up chain files and "
+        "dilution series get a result line in the summary, other TOML files are listed as "
+        "skipped (default: the example budgets shipped with the package)",
     )
 
 
