@@ -60,8 +60,11 @@ def run(args: argparse.Namespace) -> int:
     except ViscometryError as exc:
         raise type(exc)(f"{cf.source}: {exc}") from exc
     claim = BudgetClaim.from_result(result, bf.source)
-    rec = reconcile(chart, pf.history, claim, coverage_factor=args.coverage_factor,
-                    alpha=args.alpha)  # fmt: skip
+    try:
+        rec = reconcile(chart, pf.history, claim, coverage_factor=args.coverage_factor,
+                        alpha=args.alpha)  # fmt: skip
+    except ViscometryError as exc:  # e.g. records and budget of different quantities
+        raise type(exc)(f"{cf.source}, {pf.source}, {bf.source}: {exc}") from exc
     drift = _drift(args) if args.history else None
     warnings = reconciliation_warnings(rec, chart) + list(result.warnings)
     if drift is not None:

@@ -65,6 +65,7 @@ __all__ = [
     "Reconciliation",
     "TopDown",
     "reconcile",
+    "same_quantity",
     "top_down",
 ]
 
@@ -383,6 +384,37 @@ def top_down(
     )  # fmt: skip
 
 
+def same_quantity(chart: ControlChart, history: ProficiencyHistory, claim: BudgetClaim) -> None:
+    """Refuse records and a budget of different kinds of quantity.
+
+    The comparison is relative, so it would run on a kinematic chart and a dynamic budget
+    alike; a record or a budget without a unit is not checked.
+
+    Raises
+    ------
+    InputError
+        Two of the units are not of the same dimension (names both, and what to give).
+    """
+    from viscometry import units
+
+    given = [
+        (what, unit)
+        for what, unit in (
+            ("the control chart", chart.record.unit),
+            ("the proficiency rounds", history.unit),
+            ("the budget", claim.unit),
+        )
+        if unit
+    ]
+    for (first, u1), (second, u2) in zip(given, given[1:], strict=False):
+        if not units.same_dimension(u1, u2):
+            raise InputError(
+                f"{second} is in {u2!r} but {first} in {u1!r}: not the same kind of quantity "
+                "(a kinematic and a dynamic viscosity cannot be compared); give records and a "
+                "budget of one measurand"
+            )
+
+
 def reconcile(
     chart: ControlChart,
     history: ProficiencyHistory,
@@ -419,6 +451,7 @@ def reconcile(
     a = finite(alpha, "alpha")
     if not 0 < a < 1:
         raise InputError(f"alpha must lie between 0 and 1, got {alpha!r}")
+    same_quantity(chart, history, claim)
     td = top_down(chart, history, coverage_factor)
     w = claim.relative_standard_uncertainty
     nu = chart.degrees_of_freedom

@@ -269,7 +269,10 @@ def load_evidence(
         raise type(exc)(f"{bf.source}: {exc}") from exc
     chart = control_chart(cf.record)
     claim = BudgetClaim.from_result(result, bf.source)
-    rec = reconcile(chart, pf.history, claim, alpha=alpha)
+    try:
+        rec = reconcile(chart, pf.history, claim, alpha=alpha)
+    except ViscometryError as exc:  # e.g. records and budget of different quantities
+        raise type(exc)(f"{cf.source}, {pf.source}, {bf.source}: {exc}") from exc
     hf = fit = prediction = interval = None
     if history is not None:
         from viscometry.io.history import load_history
