@@ -5,7 +5,10 @@
 water in master 1 (a pasted column), the bath thermometer's expanded uncertainty U and its
 k with water's temperature coefficient α_w, and per step the liquid's label, its readings in
 the known and in the new master, its α with u(α) and u(ΔT) of a temperature difference; steps
-can be added and removed. Below, a table of the constants C₁ … C_N with the relative expanded
+can be added and removed. The optional correction terms (σ and ρ of each liquid, E and the
+meniscus geometry of each master, σ and ρ of a certified liquid) sit in a collapsible part of
+``[water]``, of each step and of ``[certified]`` (:mod:`viscometry.widgets.chain_terms`), open
+when the file has them; a blank value and u leave the term out. Below, a table of the constants C₁ … C_N with the relative expanded
 uncertainty of each, the share of the water reference in it and the step factors, the result
 statement and the chain's warnings (flow times, factor-3 steps) in colour.
 
@@ -44,6 +47,7 @@ from viscometry.text import (
     unit_suffix,
 )
 from viscometry.widgets.builder_rows import NumberField
+from viscometry.widgets.chain_terms import TERMS, TermFields, quantities_of
 from viscometry.widgets.fields import (
     LABEL_WIDTH,
     SCROLL_STYLE,
@@ -77,6 +81,7 @@ class StepRow:
     remove: widgets.Button
     message: widgets.HTML
     box: widgets.VBox
+    terms: TermFields
     original: dict[str, Any] = field(default_factory=dict)
     shown: dict[str, tuple[float | None, ...]] = field(default_factory=dict)
     master: int = 2
@@ -91,7 +96,8 @@ class StepRow:
             alpha=num("α / (1/K)", optional=True), u_alpha=num("u(α) / (1/K)", optional=True),
             u_dt=num("u(ΔT) / K", optional=True),
             remove=widgets.Button(description="Remove step", layout=widgets.Layout(width="auto")),
-            message=message_label(), box=widgets.VBox(), original=copy.deepcopy(dict(spec)),
+            message=message_label(), box=widgets.VBox(), terms=TermFields.make(),
+            original=copy.deepcopy(dict(spec)),
         )  # fmt: skip
         row.box.add_class("viscometry-step")  # a stable hook for browser tests
         row.known.value = _column(spec.get("readings_in_known", ()))
@@ -102,10 +108,12 @@ class StepRow:
         row.alpha.set(row.shown.get("alpha", (None, None))[0])
         row.u_alpha.set(row.shown.get("alpha", (None, None))[1])
         row.u_dt.set(row.shown.get("dt", (None, None))[1])
+        row.terms.fill(spec, {} if step is None else quantities_of(
+            step.surface, step.geometry, step.kinetic_energy))  # fmt: skip
         row.box.children = (
             wrap_row([_column_of([row.label, row.remove]), row.known, row.new,
                       _column_of([row.alpha.text, row.u_alpha.text, row.u_dt.text])]),
-            row.message,
+            row.terms.box, row.message,
         )  # fmt: skip
         return row
 
@@ -114,6 +122,7 @@ class StepRow:
         self.master = master
         self.known.description = f"t′ in master {master - 1} / s"
         self.new.description = f"t in master {master} / s"
+        self.terms.name(f"liquid {self.label.value.strip() or master}", master)
 
     def spec(self) -> dict[str, Any]:
         """The ``[[steps]]`` table of the fields; :class:`InputError` naming a field whose
@@ -139,6 +148,7 @@ class StepRow:
             out["temperature_difference"] = self._kept(
                 "dt", "temperature_difference", (value, u_dt), "K"
             )
+        self.terms.apply(out, f"step {k}")
         return out
 
     def _kept(self, key: str, file_key: str, now: tuple[Any, Any], unit: str) -> dict[str, Any]:
@@ -154,6 +164,7 @@ class StepRow:
             self.alpha.text,
             self.u_alpha.text,
             self.u_dt.text,
+            *self.terms.watched(),
         ]
 
 
@@ -232,6 +243,7 @@ class ChainPanel:
     start_message: widgets.HTML
     water_readings: widgets.Textarea
     water_message: widgets.HTML
+    water_terms: TermFields
     thermometer_u: NumberField
     thermometer_k: NumberField
     alpha_w: NumberField
@@ -240,6 +252,8 @@ class ChainPanel:
     steps_box: widgets.VBox
     add_step_button: widgets.Button
     steps_message: widgets.HTML
+    certified_terms: TermFields
+    certified_message: widgets.HTML
     general_message: widgets.HTML
     statement_html: widgets.HTML
     warnings_html: widgets.HTML
@@ -271,7 +285,8 @@ class ChainPanel:
 
     def message(self, where: str) -> str:
         """The refusal shown for a part: ``"start"``, ``"general"``, ``"water"``,
-        ``"thermometer"``, ``"steps"`` or ``"steps.<i>"`` (the i-th step, from 0); or ``""``."""
+        ``"thermometer"``, ``"steps"``, ``"steps.<i>"`` (the i-th step, from 0) or
+        ``"certified"``; or ``""``."""
         state = self._state
         return state.fields.get(where) or state.messages.get(where, "")
 
@@ -367,6 +382,7 @@ def _group(where: str) -> str:
     return {
         "water": "water", "water.reference": "water", "steps": "steps",
         "water.temperature_coefficient": "thermometer", "thermometer_error": "thermometer",
+        "certified": "certified",
     }.get(where, "general")  # fmt: skip
 
 
@@ -380,7 +396,8 @@ def _show_messages(panel: ChainPanel) -> None:
     state = panel._state
     for name, target in (
         ("water", panel.water_message), ("thermometer", panel.thermometer_message),
-        ("steps", panel.steps_message), ("general", panel.general_message),
+        ("steps", panel.steps_message), ("certified", panel.certified_message),
+        ("general", panel.general_message),
     ):  # fmt: skip
         text = panel.message(name)
         target.value = error_html([text] if text else [])
@@ -512,10 +529,14 @@ def _fill(panel: ChainPanel, chain_file: ChainFile) -> None:
     state.hold = True
     try:
         panel.water_readings.value = _column(water.get("readings", ()))
+        panel.water_terms.fill(water, quantities_of(
+            chain_file.water_surface, chain_file.first_master_geometry,
+            chain_file.first_master_kinetic_energy))  # fmt: skip
         panel.thermometer_u.set(state.shown["thermometer"][0])
         panel.thermometer_k.set(state.shown["thermometer"][1])
         panel.alpha_w.set(state.shown["alpha_w"][0])
         panel.u_alpha_w.set(state.shown["alpha_w"][1])
+        _fill_certified(panel, chain_file)
         specs = doc.get("steps", [])
         state.rows = [
             _step_row(panel, s, st) for s, st in zip(specs, chain_file.steps, strict=True)
@@ -523,6 +544,16 @@ def _fill(panel: ChainPanel, chain_file: ChainFile) -> None:
     finally:
         state.hold = False
     _number_steps(panel)
+
+
+def _fill_certified(panel: ChainPanel, chain_file: ChainFile) -> None:
+    """σ and ρ of the certified liquid: shown when the document has a ``[certified]``."""
+    terms = panel.certified_terms
+    table = panel._state.document.get("certified")
+    surface = None if chain_file.certified is None else chain_file.certified.surface
+    terms.fill(table if isinstance(table, dict) else {}, quantities_of(surface, None, None))
+    terms.name(chain_file.certified_label or "the certified liquid", None)
+    terms.box.layout.display = None if isinstance(table, dict) else "none"
 
 
 def _u_and_k(q: InputQuantity | None) -> tuple[float | None, float | None]:
@@ -564,9 +595,26 @@ def _step_changed(panel: ChainPanel, row: StepRow) -> None:
 def _water_changed(panel: ChainPanel) -> None:
     def edit() -> None:
         readings = parse_readings(panel.water_readings.value, "water readings")
-        panel._state.document.setdefault("water", {})["readings"] = readings
+        water = copy.deepcopy(panel._state.document.get("water", {}))
+        water["readings"] = readings
+        panel.water_terms.apply(water, "[water]")
+        panel._state.document["water"] = water
 
     _field_edit(panel, "water", edit)
+
+
+def _certified_changed(panel: ChainPanel) -> None:
+    """σ and ρ of the certified liquid (blank: the term left out)."""
+
+    def edit() -> None:
+        table = panel._state.document.get("certified")
+        if not isinstance(table, dict):
+            return
+        certified = copy.deepcopy(table)
+        panel.certified_terms.apply(certified, "[certified]")
+        panel._state.document["certified"] = certified
+
+    _field_edit(panel, "certified", edit)
 
 
 def _thermometer_changed(panel: ChainPanel) -> None:
@@ -630,6 +678,7 @@ def _controls(path: str) -> dict[str, Any]:
                                            continuous_update=False, style=_STYLE,
                                            layout=widgets.Layout(width="22em", min_width="16em", height="8em")),
         "water_message": message_label(),
+        "water_terms": _water_terms(),
         "thermometer_u": num("U(δT) / K", optional=True, tooltip="expanded uncertainty of the bath thermometer's error"),
         "thermometer_k": num("k", optional=True, tooltip="coverage factor of U(δT)"),
         "alpha_w": num("α_w / (1/K)", optional=True, tooltip="blank: water at 20 °C (IAPWS)"),
@@ -640,9 +689,23 @@ def _controls(path: str) -> dict[str, Any]:
                                           layout=widgets.Layout(width="auto", min_width="8em",
                                                                 align_self="flex-start")),
         "steps_message": message_label(), "general_message": message_label(),
+        "certified_terms": _certified_terms(), "certified_message": message_label(),
         "statement_html": widgets.HTML(), "warnings_html": widgets.HTML(),
         "table_html": scrolling_html(),
     }  # fmt: skip
+
+
+def _water_terms() -> TermFields:
+    terms = TermFields.make()
+    terms.name("water", 1)
+    return terms
+
+
+def _certified_terms() -> TermFields:
+    terms = TermFields.make(TERMS[:2])
+    terms.name("the certified liquid", None)
+    terms.box.layout.display = "none"  # shown when a chain file has a [certified]
+    return terms
 
 
 def _layout(c: dict[str, Any]) -> widgets.VBox:
@@ -658,10 +721,12 @@ def _layout(c: dict[str, Any]) -> widgets.VBox:
     tree = widgets.VBox([
         h("Start from a chain file"), wrap_row([c["path"], c["load_button"]]), c["start_message"],
         h("Water in master 1, and the bath thermometer (shared by every step)"),
-        wrap_row([controls_column([c["water_readings"], c["water_message"]]),
+        wrap_row([controls_column([c["water_readings"], c["water_terms"].box,
+                                   c["water_message"]]),
                   controls_column([*therm, c["thermometer_message"]])]),
         h("Steps: a liquid in the known master k−1 and in the new master k"),
         c["steps_box"], c["add_step_button"], c["steps_message"],
+        c["certified_terms"].box, c["certified_message"],
         h("The constants"), c["general_message"], c["statement_html"], c["warnings_html"],
         c["table_html"],
     ], layout=widgets.Layout(width="100%"))  # fmt: skip
@@ -673,6 +738,10 @@ def _wire(panel: ChainPanel) -> None:
     panel.load_button.on_click(lambda _b: panel.load_file(panel.path.value.strip()))
     panel.add_step_button.on_click(lambda _b: panel.add_step())
     panel.water_readings.observe(lambda _c: _water_changed(panel), names="value")
+    for w in panel.water_terms.watched():
+        w.observe(lambda _c: _water_changed(panel), names="value")
+    for w in panel.certified_terms.watched():
+        w.observe(lambda _c: _certified_changed(panel), names="value")
     for f in (panel.thermometer_u, panel.thermometer_k, panel.alpha_w, panel.u_alpha_w):
         f.text.observe(lambda _c: _thermometer_changed(panel), names="value")
 
