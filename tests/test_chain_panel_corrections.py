@@ -100,6 +100,19 @@ def test_a_file_without_terms_shows_empty_closed_parts() -> None:
     assert p.certified_terms.box.layout.display == "none"  # no [certified] in this file
 
 
+def test_loading_another_file_refills_the_parts(panel: ChainPanel) -> None:
+    panel.step_row(0).label.value = "S2 (lot 7)"
+    assert "liquid S2 (lot 7)" in panel.step_row(0).terms.box.get_title(0)
+    assert panel.load_file(PLAIN)
+    assert set(_shown(panel.water_terms).values()) == {("", "")}
+    assert panel.water_terms.box.selected_index is None
+    assert panel.certified_terms.box.layout.display == "none"
+    assert panel.result().value == load_chain(PLAIN).evaluate().value
+    assert panel.load_file(SURFACE)
+    assert _shown(panel.water_terms)["driving_head"] == ("400", "3")
+    assert panel.certified_terms.box.layout.display is None
+
+
 def test_a_changed_surface_tension_equals_the_librarys(panel: ChainPanel) -> None:
     panel.step_row(0).terms.values["surface_tension"].text.value = "29.9"
     assert panel.message("steps.0") == ""

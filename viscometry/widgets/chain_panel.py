@@ -149,6 +149,7 @@ class StepRow:
                 "dt", "temperature_difference", (value, u_dt), "K"
             )
         self.terms.apply(out, f"step {k}")
+        self.terms.name(f"liquid {out.get('label', k)}", k)
         return out
 
     def _kept(self, key: str, file_key: str, now: tuple[Any, Any], unit: str) -> dict[str, Any]:
