@@ -197,8 +197,8 @@ def test_chain_model_lists_the_new_inputs_with_units() -> None:
     assert (units["sigma2"], units["rho_X"], units["r_u1"], units["h2"], units["E1"]) == (
         "N/m", "kg/m^3", "m", "m", "m^2*s",
     )  # fmt: skip
-    assert {"r_u1", "r_l1", "h1", "rho2", "rho_w", "t_X"} <= set(model.positive_inputs)
-    assert "E1" not in model.positive_inputs and "sigma2" not in model.positive_inputs
+    assert {"r_u1", "r_l1", "h1", "rho2", "rho_w", "t_X", "sigma2"} <= set(model.positive_inputs)
+    assert "E1" not in model.positive_inputs  # a kinetic-energy constant may be given as 0 ± a
     assert get_method("glass_capillary_corrected_surface_tension") is not None
 
 
@@ -303,3 +303,17 @@ def test_methods_command_lists_the_new_inputs(capsys: pytest.CaptureFixture[str]
         assert main(["methods", name]) == 0
         out = capsys.readouterr().out
         assert all(f"\n    {i} " in out for i in inputs), out  # one row per input
+
+
+def test_a_negative_surface_tension_in_a_chain_file_is_refused_by_the_reader():
+    """A surface tension is positive; the file reader refuses it naming table, key and value
+    (the chain panel refuses it too, with the same rule)."""
+    import re
+
+    from viscometry.errors import BudgetFileError
+    from viscometry.io.chain import loads_chain
+
+    text = CHAIN_EXAMPLE.read_text("utf-8")
+    bad = re.sub(r"(surface_tension = \{ value = )([0-9.]+)", r"\1-\2", text, count=1)
+    with pytest.raises(BudgetFileError, match=r"\[water\] surface_tension value must be positive"):
+        loads_chain(bad, "x.toml")

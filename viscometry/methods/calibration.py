@@ -378,7 +378,7 @@ _CHAIN_UNITS = (
     ("nu_w", "m^2/s"), ("dT", "K"), ("alpha", "1/K"), ("t", "s"), ("sigma", "N/m"),
     ("rho", "kg/m^3"), ("r_", "m"), ("h", "m"), ("E", "m^2*s"),
 )  # fmt: skip
-_POSITIVE_PREFIXES = ("t", "rho", "r_", "h")
+_POSITIVE_PREFIXES = ("t", "rho", "r_", "h", "sigma")
 
 
 def _chain_model(
