@@ -101,7 +101,8 @@ def build_parser() -> argparse.ArgumentParser:
         prog=PROG,
         description=(
             "GUM uncertainty budgets for capillary viscometry: evaluate plain-text budget "
-            "files, audit recorded results, run the demo budgets."
+            "files, audit recorded results, plan upgrades, check the budget against the lab's "
+            "own records, and extrapolate dilute polymer solutions."
         ),
         epilog=epilog,
     )
