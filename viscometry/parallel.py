@@ -52,8 +52,10 @@ import warnings
 from collections.abc import Callable, Iterable, Sequence
 from typing import Any, TextIO, TypeVar
 
-from viscometry._checks import available_cores as _available_cores
-from viscometry._checks import worker_count
+from viscometry._checks import (
+    available_cores,  # re-exported: the cores this process may use
+    worker_count,
+)
 from viscometry.errors import InputError
 
 __all__ = [
@@ -94,20 +96,6 @@ _DIED = (
     "evaluated again alone, it stopped again"
 )
 _MISSING: Any = object()
-
-
-def available_cores() -> int:
-    """The number of CPU cores this process may use (at least 1).
-
-    ``os.process_cpu_count()`` (Python 3.13), else the process's CPU affinity where the
-    system has one (Linux), else ``os.cpu_count()``.
-
-    Examples
-    --------
-    >>> available_cores() >= 1
-    True
-    """
-    return _available_cores()
 
 
 def check_jobs(value: object, field: str = "jobs") -> int:
